@@ -1,0 +1,137 @@
+/**
+ * Scalar root finding and minimisation.
+ *  - bisectMonotone: plain bisection for a monotone function (robust, used for quantiles).
+ *  - brentRoot: Brent's method (Brent 1973, Algorithms for Minimization without Derivatives, ch. 4).
+ *  - brentMinimize: Brent's golden-section/parabolic minimiser (same book, ch. 5).
+ */
+
+export function bisectMonotone(f: (x: number) => number, lo: number, hi: number, relTol = 1e-14, maxIter = 400): number {
+  let flo = f(lo);
+  for (let i = 0; i < maxIter; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (mid === lo || mid === hi || hi - lo <= relTol * Math.max(1, Math.abs(mid))) return mid;
+    const fm = f(mid);
+    if ((fm < 0) === (flo < 0)) {
+      lo = mid;
+      flo = fm;
+    } else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/** Brent's root finder on a bracket [a, b] with f(a)·f(b) ≤ 0. */
+export function brentRoot(f: (x: number) => number, a: number, b: number, tol = 1e-13, maxIter = 200): number {
+  let fa = f(a);
+  let fb = f(b);
+  if (fa === 0) return a;
+  if (fb === 0) return b;
+  let c = a;
+  let fc = fa;
+  let d = b - a;
+  let e = d;
+  for (let iter = 0; iter < maxIter; iter++) {
+    if ((fb > 0 && fc > 0) || (fb < 0 && fc < 0)) {
+      c = a;
+      fc = fa;
+      d = b - a;
+      e = d;
+    }
+    if (Math.abs(fc) < Math.abs(fb)) {
+      a = b; b = c; c = a;
+      fa = fb; fb = fc; fc = fa;
+    }
+    const tol1 = 2 * Number.EPSILON * Math.abs(b) + 0.5 * tol;
+    const xm = 0.5 * (c - b);
+    if (Math.abs(xm) <= tol1 || fb === 0) return b;
+    if (Math.abs(e) >= tol1 && Math.abs(fa) > Math.abs(fb)) {
+      const s = fb / fa;
+      let p: number;
+      let q: number;
+      if (a === c) {
+        p = 2 * xm * s;
+        q = 1 - s;
+      } else {
+        const qq = fa / fc;
+        const r = fb / fc;
+        p = s * (2 * xm * qq * (qq - r) - (b - a) * (r - 1));
+        q = (qq - 1) * (r - 1) * (s - 1);
+      }
+      if (p > 0) q = -q;
+      p = Math.abs(p);
+      if (2 * p < Math.min(3 * xm * q - Math.abs(tol1 * q), Math.abs(e * q))) {
+        e = d;
+        d = p / q;
+      } else {
+        d = xm;
+        e = d;
+      }
+    } else {
+      d = xm;
+      e = d;
+    }
+    a = b;
+    fa = fb;
+    b += Math.abs(d) > tol1 ? d : xm > 0 ? tol1 : -tol1;
+    fb = f(b);
+  }
+  return b;
+}
+
+/** Brent's minimiser on [a, b]; returns the abscissa of the minimum found. */
+export function brentMinimize(f: (x: number) => number, a: number, b: number, tol = 1e-12, maxIter = 200): { x: number; value: number } {
+  const golden = 0.3819660112501051;
+  let x = a + golden * (b - a);
+  let w = x;
+  let v = x;
+  let fx = f(x);
+  let fw = fx;
+  let fv = fx;
+  let d = 0;
+  let e = 0;
+  for (let iter = 0; iter < maxIter; iter++) {
+    const xm = 0.5 * (a + b);
+    const tol1 = tol * Math.abs(x) + 1e-300;
+    const tol2 = 2 * tol1;
+    if (Math.abs(x - xm) <= tol2 - 0.5 * (b - a)) break;
+    let useGolden = true;
+    if (Math.abs(e) > tol1) {
+      const r = (x - w) * (fx - fv);
+      let q = (x - v) * (fx - fw);
+      let p = (x - v) * q - (x - w) * r;
+      q = 2 * (q - r);
+      if (q > 0) p = -p;
+      q = Math.abs(q);
+      const etemp = e;
+      e = d;
+      if (!(Math.abs(p) >= Math.abs(0.5 * q * etemp) || p <= q * (a - x) || p >= q * (b - x))) {
+        d = p / q;
+        const u = x + d;
+        if (u - a < tol2 || b - u < tol2) d = xm - x >= 0 ? tol1 : -tol1;
+        useGolden = false;
+      }
+    }
+    if (useGolden) {
+      e = x >= xm ? a - x : b - x;
+      d = golden * e;
+    }
+    const u = Math.abs(d) >= tol1 ? x + d : x + (d >= 0 ? tol1 : -tol1);
+    const fu = f(u);
+    if (fu <= fx) {
+      if (u >= x) a = x;
+      else b = x;
+      v = w; fv = fw;
+      w = x; fw = fx;
+      x = u; fx = fu;
+    } else {
+      if (u < x) a = u;
+      else b = u;
+      if (fu <= fw || w === x) {
+        v = w; fv = fw;
+        w = u; fw = fu;
+      } else if (fu <= fv || v === x || v === w) {
+        v = u; fv = fu;
+      }
+    }
+  }
+  return { x, value: fx };
+}

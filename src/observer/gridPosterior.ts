@@ -1,0 +1,400 @@
+/**
+ * The observer's posterior over the stimulus on a composite Gauss–Legendre
+ * grid, in warped coordinates u where the sensory noise sd is about one unit.
+ *
+ * Why this layout:
+ *  - Panels start exactly at finite support ends, so truncated posteriors
+ *    (uniform prior) are integrated without the O(h) error a uniform grid has
+ *    at a jump of the density.
+ *  - Within a panel the density is represented by its Legendre series (the
+ *    discrete transform of the node values), so the cdf and density at any
+ *    point cost a short recurrence and no new likelihood evaluations.
+ *  - Panel positions are multiples of the panel width from a fixed anchor and
+ *    move continuously with the parameters, so the likelihood has no steps.
+ * All work is in log densities; the normaliser comes from the node sum.
+ */
+import { gaussHermite, gaussLegendre } from '../numerics/gaussRules.js';
+import { legendreIntegral, legendreTransform, legendreValue } from '../numerics/legendre.js';
+import type { Distribution } from './distributions/types.js';
+import type { SensoryNoise, Warp } from './noise/types.js';
+
+export const NODES_PER_PANEL = 10;
+const LOG_CUTOFF = 46; // e^-46 ≈ 1e-20 relative to the peak is treated as zero
+const MAX_NODES = 20000;
+
+export interface GridSetup {
+  prior: Distribution;
+  noise: SensoryNoise;
+  warp: Warp;
+  /** Range to cover, in u, before intersecting with the prior's support. */
+  uLo: number;
+  uHi: number;
+  panelWidth: number;
+}
+
+export class GridPosterior {
+  readonly nPanels: number;
+  readonly nNodes: number;
+  readonly panelStart: Float64Array;
+  readonly panelHalf: Float64Array;
+  readonly u: Float64Array;
+  readonly x: Float64Array;
+  /** Gauss–Legendre weight in u (half-width included). */
+  readonly quadWeight: Float64Array;
+  private readonly logBase: Float64Array;
+  private readonly center: Float64Array;
+  private readonly invSd: Float64Array;
+  private readonly logSd: Float64Array;
+  private readonly logVal: Float64Array;
+  /** Normalised density in u at the nodes. */
+  readonly f: Float64Array;
+  /** Normalised mass at the nodes: f · quadWeight. */
+  readonly mass: Float64Array;
+  /** Cumulative mass at the start of each panel (valid for panels in the window). */
+  readonly cum: Float64Array;
+  private readonly coef: Float64Array;
+  private readonly coefStamp: Int32Array;
+  private stamp = 0;
+  first = 0;
+  last = -1;
+  readonly warp: Warp;
+  readonly supportU: readonly [number, number];
+  private readonly transform: Float64Array;
+  private readonly uniformWidth: number;
+  private readonly anchor: number;
+  private readonly prior: Distribution;
+  private readonly noise: SensoryNoise;
+  private measurement = NaN;
+  /** False after convolveGaussian: the exact density is then no longer prior × likelihood. */
+  exactAvailable = false;
+
+  constructor(setup: GridSetup) {
+    const { prior, noise, warp } = setup;
+    this.warp = warp;
+    this.prior = prior;
+    this.noise = noise;
+    const sLo = Number.isFinite(prior.support[0]) ? warp.toU(prior.support[0]) : -Infinity;
+    const sHi = Number.isFinite(prior.support[1]) ? warp.toU(prior.support[1]) : Infinity;
+    this.supportU = [sLo, sHi];
+    const lo = Math.max(setup.uLo, sLo);
+    const hi = Math.min(setup.uHi, sHi);
+    if (!(hi > lo)) throw new RangeError('the measurements lie entirely outside the prior support');
+    const W = setup.panelWidth;
+    this.uniformWidth = W;
+    // Anchor panels at a finite support end when there is one, else at u = 0.
+    const anchor = Number.isFinite(sLo) ? sLo : Number.isFinite(sHi) ? sHi : 0;
+    this.anchor = anchor;
+    const pFirst = Math.floor((lo - anchor) / W);
+    const pLast = Math.ceil((hi - anchor) / W) - 1;
+    const starts: number[] = [];
+    const halves: number[] = [];
+    for (let p = pFirst; p <= pLast; p++) {
+      let a = anchor + p * W;
+      let b = a + W;
+      if (a < sLo) a = sLo;
+      if (b > sHi) b = sHi;
+      if (b <= a) continue;
+      starts.push(a);
+      halves.push(0.5 * (b - a));
+    }
+    this.nPanels = starts.length;
+    const n = NODES_PER_PANEL;
+    this.nNodes = this.nPanels * n;
+    if (this.nNodes > MAX_NODES) {
+      throw new RangeError(`posterior grid would need ${this.nNodes} nodes (limit ${MAX_NODES}): the prior is far narrower than the range of measurements`);
+    }
+    this.panelStart = Float64Array.from(starts);
+    this.panelHalf = Float64Array.from(halves);
+    const J = this.nNodes;
+    this.u = new Float64Array(J);
+    this.x = new Float64Array(J);
+    this.quadWeight = new Float64Array(J);
+    this.logBase = new Float64Array(J);
+    this.center = new Float64Array(J);
+    this.invSd = new Float64Array(J);
+    this.logSd = new Float64Array(J);
+    this.logVal = new Float64Array(J);
+    this.f = new Float64Array(J);
+    this.mass = new Float64Array(J);
+    this.cum = new Float64Array(this.nPanels + 1);
+    this.coef = new Float64Array(J);
+    this.coefStamp = new Int32Array(this.nPanels).fill(-1);
+    this.transform = legendreTransform(n);
+    const gl = gaussLegendre(n);
+    for (let p = 0; p < this.nPanels; p++) {
+      const mid = this.panelStart[p] + this.panelHalf[p];
+      for (let i = 0; i < n; i++) {
+        const j = p * n + i;
+        const uj = mid + this.panelHalf[p] * gl.nodes[i];
+        const xj = warp.fromU(uj);
+        this.u[j] = uj;
+        this.x[j] = xj;
+        this.quadWeight[j] = this.panelHalf[p] * gl.weights[i];
+        this.logBase[j] = prior.logPdf(xj) + Math.log(warp.dxdu(uj));
+        this.center[j] = noise.center(xj);
+        const sd = noise.sdAt(xj);
+        this.invSd[j] = 1 / sd;
+        this.logSd[j] = Math.log(sd);
+      }
+    }
+  }
+
+  /** Condition on measurement m (in the noise's measurement space). */
+  setMeasurement(m: number): void {
+    const J = this.nNodes;
+    let max = -Infinity;
+    for (let j = 0; j < J; j++) {
+      const d = (m - this.center[j]) * this.invSd[j];
+      const v = this.logBase[j] - 0.5 * d * d - this.logSd[j];
+      this.logVal[j] = v;
+      if (v > max) max = v;
+    }
+    this.measurement = m;
+    this.exactAvailable = true;
+    this.normalise(max);
+  }
+
+  /** Unnormalised log posterior density in x, evaluated exactly (prior × likelihood). */
+  exactLogDensity(x: number): number {
+    const sd = this.noise.sdAt(x);
+    const d = (this.measurement - this.noise.center(x)) / sd;
+    return this.prior.logPdf(x) - 0.5 * d * d - Math.log(sd);
+  }
+
+  /** Replace the node log-densities (in u) and normalise; used by the motor-aware view. */
+  private normalise(max: number): void {
+    const J = this.nNodes;
+    const thr = max - LOG_CUTOFF;
+    let first = -1;
+    let last = -1;
+    for (let j = 0; j < J; j++) {
+      if (this.logVal[j] >= thr) {
+        if (first < 0) first = j;
+        last = j;
+      }
+    }
+    if (first < 0) throw new RangeError('posterior has no mass on the grid');
+    const n = NODES_PER_PANEL;
+    // Whole panels, so the Legendre transform of a panel sees all its nodes.
+    first = Math.floor(first / n) * n;
+    last = Math.floor(last / n) * n + n - 1;
+    this.first = first;
+    this.last = last;
+    let z = 0;
+    for (let j = first; j <= last; j++) {
+      const v = this.logVal[j];
+      const e = v >= thr ? Math.exp(v - max) : 0;
+      this.f[j] = e;
+      const mj = e * this.quadWeight[j];
+      this.mass[j] = mj;
+      z += mj;
+    }
+    const inv = 1 / z;
+    for (let j = first; j <= last; j++) {
+      this.f[j] *= inv;
+      this.mass[j] *= inv;
+    }
+    const pf = first / n;
+    const pl = (last + 1) / n - 1;
+    let acc = 0;
+    for (let p = pf; p <= pl; p++) {
+      this.cum[p] = acc;
+      let s = 0;
+      const base = p * n;
+      for (let i = 0; i < n; i++) s += this.mass[base + i];
+      acc += s;
+    }
+    this.cum[pl + 1] = acc;
+    this.stamp++;
+  }
+
+  get firstPanel(): number {
+    return this.first / NODES_PER_PANEL;
+  }
+  get lastPanel(): number {
+    return (this.last + 1) / NODES_PER_PANEL - 1;
+  }
+
+  private coefficients(p: number): number {
+    const n = NODES_PER_PANEL;
+    const off = p * n;
+    if (this.coefStamp[p] === this.stamp) return off;
+    const T = this.transform;
+    for (let k = 0; k < n; k++) {
+      let s = 0;
+      for (let i = 0; i < n; i++) s += T[k * n + i] * this.f[off + i];
+      this.coef[off + k] = s;
+    }
+    this.coefStamp[p] = this.stamp;
+    return off;
+  }
+
+  /** Index of the panel containing u (clamped to the window). */
+  panelOf(u: number): number {
+    let p = Math.floor((u - this.anchor) / this.uniformWidth) - Math.floor((this.panelStart[0] - this.anchor) / this.uniformWidth + 1e-9);
+    if (p < 0) p = 0;
+    if (p >= this.nPanels) p = this.nPanels - 1;
+    // Clipped end panels can shift the arithmetic by one; correct locally.
+    while (p > 0 && u < this.panelStart[p]) p--;
+    while (p < this.nPanels - 1 && u >= this.panelStart[p] + 2 * this.panelHalf[p]) p++;
+    return p;
+  }
+
+  mean(): number {
+    let s = 0;
+    for (let j = this.first; j <= this.last; j++) s += this.mass[j] * this.x[j];
+    return s;
+  }
+
+  /** Posterior cdf at u (warped coordinate). */
+  cdfU(u: number): number {
+    const pf = this.firstPanel;
+    const pl = this.lastPanel;
+    if (!(u > this.panelStart[pf])) return 0;
+    if (u >= this.panelStart[pl] + 2 * this.panelHalf[pl]) return 1;
+    const p = this.panelOf(u);
+    const h = this.panelHalf[p];
+    const t = (u - this.panelStart[p] - h) / h;
+    const off = this.coefficients(p);
+    return this.cum[p] + h * legendreIntegral(this.coef, off, NODES_PER_PANEL, t > 1 ? 1 : t);
+  }
+
+  /** Posterior cdf at x. */
+  cdf(x: number): number {
+    if (x <= this.x[this.first] && !(this.warp.toU(x) > this.panelStart[this.firstPanel])) return 0;
+    const u = this.toUSafe(x);
+    return this.cdfU(u);
+  }
+
+  private toUSafe(x: number): number {
+    const u = this.warp.toU(x);
+    if (Number.isNaN(u)) return -Infinity;
+    return u;
+  }
+
+  /** Posterior mass of [a, b] in x. */
+  massBetween(a: number, b: number): number {
+    const ua = this.toUSafe(a);
+    const ub = this.toUSafe(b);
+    const pa = this.panelOf(ua);
+    const pb = this.panelOf(ub);
+    const pf = this.firstPanel;
+    const pl = this.lastPanel;
+    // Same panel: difference of the local integrals only, to avoid cancellation against cum.
+    if (pa === pb && pa >= pf && pa <= pl && ua > this.panelStart[pa] && ub < this.panelStart[pa] + 2 * this.panelHalf[pa]) {
+      const h = this.panelHalf[pa];
+      const off = this.coefficients(pa);
+      const ta = (ua - this.panelStart[pa] - h) / h;
+      const tb = (ub - this.panelStart[pa] - h) / h;
+      return h * (legendreIntegral(this.coef, off, NODES_PER_PANEL, tb) - legendreIntegral(this.coef, off, NODES_PER_PANEL, ta));
+    }
+    return this.cdfU(ub) - this.cdfU(ua);
+  }
+
+  /** Posterior density in u at u (0 outside the window). */
+  densityU(u: number): number {
+    const pf = this.firstPanel;
+    const pl = this.lastPanel;
+    if (u < this.panelStart[pf] || u > this.panelStart[pl] + 2 * this.panelHalf[pl]) return 0;
+    const p = this.panelOf(u);
+    const h = this.panelHalf[p];
+    const off = this.coefficients(p);
+    return legendreValue(this.coef, off, NODES_PER_PANEL, (u - this.panelStart[p] - h) / h);
+  }
+
+  /** Posterior density in x at x. */
+  densityX(x: number): number {
+    const u = this.toUSafe(x);
+    if (!Number.isFinite(u)) return 0;
+    return this.densityU(u) / this.warp.dxdu(u);
+  }
+
+  /** τ-quantile of the posterior, in x. */
+  quantile(tau: number): number {
+    const n = NODES_PER_PANEL;
+    let lo = this.firstPanel;
+    let hi = this.lastPanel;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (this.cum[mid] <= tau) lo = mid;
+      else hi = mid - 1;
+    }
+    const p = lo;
+    const h = this.panelHalf[p];
+    const off = this.coefficients(p);
+    const target = (tau - this.cum[p]) / h;
+    const pm = (this.cum[p + 1] - this.cum[p]) / h;
+    let a = -1;
+    let b = 1;
+    let t = pm > 0 ? -1 + 2 * Math.min(1, Math.max(0, target / pm)) : 0;
+    for (let it = 0; it < 60; it++) {
+      const g = legendreIntegral(this.coef, off, n, t) - target;
+      if (g > 0) b = t;
+      else a = t;
+      const d = legendreValue(this.coef, off, n, t);
+      let next = d > 0 ? t - g / d : NaN;
+      if (!(next > a && next < b)) next = 0.5 * (a + b);
+      if (Math.abs(next - t) < 1e-15) {
+        t = next;
+        break;
+      }
+      t = next;
+    }
+    return this.warp.fromU(this.panelStart[p] + h + h * t);
+  }
+
+  /**
+   * Replace the posterior by the distribution of x − η, η ~ N(0, sd²): what an
+   * observer who expects its own motor noise weighs when choosing a response.
+   * Narrow kernels are integrated by Gauss–Hermite over η against the panel
+   * polynomials; wide ones by the node sum over x (each accurate in its regime).
+   */
+  convolveGaussian(sd: number): void {
+    if (!(sd > 0)) return;
+    const J = this.nNodes;
+    const mean = this.mean();
+    let v = 0;
+    for (let j = this.first; j <= this.last; j++) v += this.mass[j] * (this.x[j] - mean) ** 2;
+    const postSd = Math.sqrt(v);
+    const out = this.logVal;
+    // Nodes that can receive mass: within 9 sd of the current window, in x.
+    const xLo = this.x[this.first] - 9 * sd;
+    const xHi = this.x[this.last] + 9 * sd;
+    if (sd < 0.5 * postSd) {
+      const gh = gaussHermite(24);
+      const s2 = Math.SQRT2 * sd;
+      for (let j = 0; j < J; j++) {
+        const xj = this.x[j];
+        if (xj < xLo || xj > xHi) {
+          out[j] = -Infinity;
+          continue;
+        }
+        let acc = 0;
+        for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * this.densityX(xj + s2 * gh.nodes[k]);
+        const fx = acc / Math.sqrt(Math.PI);
+        out[j] = fx > 0 ? Math.log(fx) + Math.log(this.warp.dxdu(this.u[j])) : -Infinity;
+      }
+    } else {
+      const inv2 = 1 / (2 * sd * sd);
+      const norm = 1 / (sd * Math.sqrt(2 * Math.PI));
+      for (let j = 0; j < J; j++) {
+        const xj = this.x[j];
+        if (xj < xLo || xj > xHi) {
+          out[j] = -Infinity;
+          continue;
+        }
+        let acc = 0;
+        for (let i = this.first; i <= this.last; i++) {
+          const d = xj - this.x[i];
+          acc += this.mass[i] * Math.exp(-d * d * inv2);
+        }
+        const fx = acc * norm;
+        out[j] = fx > 0 ? Math.log(fx) + Math.log(this.warp.dxdu(this.u[j])) : -Infinity;
+      }
+    }
+    let max = -Infinity;
+    for (let j = 0; j < J; j++) if (out[j] > max) max = out[j];
+    this.exactAvailable = false;
+    this.normalise(max);
+  }
+}

@@ -1,0 +1,22 @@
+/** Absolute error |e|: the Bayes action is the posterior median (Berger 1985, §4.4.2). */
+import { z } from 'zod';
+import type { LossFunction } from './types.js';
+
+export const absoluteSchema = z.strictObject({ family: z.literal('absolute') });
+
+export const absoluteLoss: LossFunction = {
+  family: 'absolute',
+  params: {},
+  loss: (e) => Math.abs(e),
+  estimate: (post) => post.quantile(0.5),
+  mayJump: false,
+  symmetric: true,
+};
+
+export const absoluteFamily = {
+  name: 'absolute' as const,
+  summary: 'absolute error; estimate = posterior median',
+  schema: absoluteSchema,
+  parameters: [],
+  create: (): LossFunction => absoluteLoss,
+};

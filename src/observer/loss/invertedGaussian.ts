@@ -1,0 +1,78 @@
+/**
+ * Bounded inverted-Gaussian loss with width ε: L(e) = 1 − exp(−e²/(2ε²)).
+ * Quadratic for small errors and saturating for large ones, the shape measured
+ * for reaching errors (Körding & Wolpert 2004, PNAS). The Bayes action is the
+ * argmax of the posterior smoothed by N(0, ε²); it tends to the posterior mean
+ * for wide ε and to the mode for narrow ε.
+ */
+import { z } from 'zod';
+import { gaussHermite } from '../../numerics/gaussRules.js';
+import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
+import { maximiseOverNodes } from './hitOrMiss.js';
+import type { LossFunction, LossParameter } from './types.js';
+
+export const invertedGaussianSchema = z.strictObject({
+  family: z.literal('inverted-gaussian'),
+  width: z.number().positive().describe('width ε of the loss, > 0, in stimulus units'),
+});
+
+export const invertedGaussianParameters: LossParameter[] = [
+  { name: 'width', description: 'width ε of the bounded loss', min: 1e-3, max: 1e3, transform: 'log', typical: 1 },
+];
+
+/** ∫ f(x) exp(−(c−x)²/(2ε²)) dx up to a constant. */
+function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow: boolean, ref: number): number {
+  if (narrow) {
+    // Kernel narrower than the panels: integrate the kernel by Gauss–Hermite
+    // against the exact posterior density (or the panel polynomials after a
+    // motor-noise convolution), which resolve the density between nodes.
+    const gh = gaussHermite(20);
+    const s = Math.SQRT2 * width;
+    let acc = 0;
+    if (post.exactAvailable) {
+      for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * Math.exp(post.exactLogDensity(c + s * gh.nodes[k]) - ref);
+    } else {
+      for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * post.densityX(c + s * gh.nodes[k]);
+    }
+    return acc * s;
+  }
+  const inv = 1 / (2 * width * width);
+  const cut = 40 * width * width;
+  let acc = 0;
+  for (let j = post.first; j <= post.last; j++) {
+    const d = c - post.x[j];
+    const d2 = d * d;
+    if (d2 < cut) acc += post.mass[j] * Math.exp(-d2 * inv);
+  }
+  return acc;
+}
+
+export function invertedGaussianLoss(width: number): LossFunction {
+  return {
+    family: 'inverted-gaussian',
+    params: { width },
+    loss: (e) => 1 - Math.exp((-e * e) / (2 * width * width)),
+    estimate: (post) => {
+      // Narrow regime when ε is below half a panel (in x) where the posterior peaks;
+      // the node sum needs several nodes per kernel width.
+      let jMax = post.first;
+      for (let j = post.first; j <= post.last; j++) if (post.f[j] > post.f[jMax]) jMax = j;
+      const p = Math.floor(jMax / NODES_PER_PANEL);
+      const uMid = post.panelStart[p] + post.panelHalf[p];
+      const panelX = 2 * post.panelHalf[p] * post.warp.dxdu(uMid);
+      const narrow = width < 0.5 * panelX;
+      const ref = post.exactAvailable ? post.exactLogDensity(post.x[jMax]) : 0;
+      return maximiseOverNodes(post, (c) => smoothedPosterior(post, c, width, narrow, ref), 3);
+    },
+    mayJump: true,
+    symmetric: true,
+  };
+}
+
+export const invertedGaussianFamily = {
+  name: 'inverted-gaussian' as const,
+  summary: 'bounded loss 1 − exp(−e²/2ε²); mean-like for wide ε, mode-like for narrow ε',
+  schema: invertedGaussianSchema,
+  parameters: invertedGaussianParameters,
+  create: (s: { width: number }): LossFunction => invertedGaussianLoss(s.width),
+};
