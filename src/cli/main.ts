@@ -1,0 +1,41 @@
+#!/usr/bin/env node
+/** lossprobe command line: thin commands that parse, call and print. */
+import { Command } from 'commander';
+import { createRequire } from 'node:module';
+import { UserError } from './userError.js';
+import { printPreview, runPreview } from './preview.js';
+
+const require = createRequire(import.meta.url);
+const { version } = require('../../package.json') as { version: string };
+
+const collect = (v: string, prev: string[] = []) => [...prev, v];
+
+async function main(argv: string[]): Promise<void> {
+  const program = new Command();
+  program
+    .name('lossprobe')
+    .description('Check whether an estimation experiment can tell which loss function a Bayesian observer minimises.')
+    .version(version)
+    .showHelpAfterError();
+  program
+    .command('preview')
+    .description('tabulate and plot the Bayes estimate of each candidate loss for a prior and sensory noise')
+    .argument('[scenario]', 'scenario file (YAML or JSON); or describe the observer with the flags below')
+    .option('--prior <family:params>', 'prior, e.g. gamma:shape=3,scale=6')
+    .option('--noise <family:params>', 'sensory noise of a condition (repeatable), e.g. scalar:weber=0.15', collect)
+    .option('--loss <family:params>', 'candidate loss (repeatable), e.g. power:exponent=1.5', collect)
+    .option('--scale <lower,upper>', 'response scale ends, e.g. 0,100')
+    .option('--motor-sd <sd>', 'motor noise sd')
+    .option('--out <folder>', 'output folder (default results/<name>-preview)')
+    .action(async (file: string | undefined, opts) => printPreview(await runPreview(file, opts)));
+  await program.parseAsync(argv);
+}
+
+main(process.argv).catch((e: unknown) => {
+  if (e instanceof UserError) {
+    process.stderr.write(`lossprobe: ${e.message}\n`);
+    process.exit(2);
+  }
+  process.stderr.write(`lossprobe: internal error: ${(e as Error).stack ?? String(e)}\n`);
+  process.exit(1);
+});

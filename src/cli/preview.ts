@@ -1,0 +1,148 @@
+/**
+ * `lossprobe preview`: what each candidate loss makes the observer report,
+ * before any simulation. Prints the estimate at a few measurements per loss
+ * and writes the loss shapes and the estimate curves x̂(m) as SVG figures.
+ */
+import Table from 'cli-table3';
+import { join } from 'node:path';
+import { previewScenarioSchema, type PreviewScenario } from '../scenario/previewSchema.js';
+import { readStructuredFile, validate } from '../scenario/load.js';
+import { observerFor } from '../scenario/buildObserver.js';
+import { buildPosteriorGrid, measurementRange } from '../observer/gridFactory.js';
+import { estimateAt } from '../observer/estimateCurve.js';
+import { lineChart, type Series } from '../report/charts.js';
+import { writeFolderAtomically } from '../report/writeFolder.js';
+import { UserError } from './userError.js';
+
+export interface PreviewOptions {
+  prior?: string;
+  noise?: string[];
+  loss?: string[];
+  scale?: string;
+  motorSd?: string;
+  out?: string;
+  json?: boolean;
+}
+
+/** "family:key=value,key=value" → { family, key: value } (numbers where numeric). */
+export function parseFamilyFlag(flag: string, text: string): Record<string, unknown> {
+  const [family, rest] = text.split(':', 2);
+  const out: Record<string, unknown> = { family: family.trim() };
+  if (rest) {
+    for (const part of rest.split(',')) {
+      const [k, v] = part.split('=');
+      if (!k || v === undefined) throw new UserError(`--${flag} '${text}': expected family:key=value,key=value (e.g. gaussian:mean=10,sd=3)`);
+      const num = Number(v);
+      out[k.trim()] = v.trim() !== '' && Number.isFinite(num) ? num : v.trim();
+    }
+  }
+  return out;
+}
+
+function scenarioFromFlags(o: PreviewOptions): unknown {
+  if (!o.prior) throw new UserError('preview needs a scenario file or at least --prior, --noise and --loss');
+  const [lower, upper] = (o.scale ?? '').split(',').map(Number);
+  return {
+    name: 'preview',
+    prior: parseFamilyFlag('prior', o.prior),
+    conditions: (o.noise ?? []).map((n, i) => ({ name: `condition-${i + 1}`, noise: parseFamilyFlag('noise', n) })),
+    response: { lower: Number.isFinite(lower) ? lower : undefined, upper: Number.isFinite(upper) ? upper : undefined, motorSd: o.motorSd ? Number(o.motorSd) : undefined },
+    models: (o.loss ?? []).map((l) => {
+      const spec = parseFamilyFlag('loss', l);
+      return { name: String(spec.family), loss: spec };
+    }),
+  };
+}
+
+export interface PreviewResult {
+  scenario: PreviewScenario;
+  measurements: number[];
+  /** estimates[condition][model][measurement] */
+  estimates: number[][][];
+  folder: string;
+}
+
+function pretty(x: number): string {
+  if (!Number.isFinite(x)) return String(x);
+  const a = Math.abs(x);
+  return a !== 0 && (a < 1e-3 || a >= 1e5) ? x.toExponential(3) : x.toFixed(a < 1 ? 4 : a < 100 ? 3 : 1);
+}
+
+export async function runPreview(file: string | undefined, o: PreviewOptions): Promise<PreviewResult> {
+  const source = file ?? 'command line';
+  const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
+  const s = validate(previewScenarioSchema, raw, source);
+  const observers = s.models.map((m) => observerFor(s, m.loss, source));
+  const prior = observers[0].prior;
+  const lo = prior.quantile(0.02);
+  const hi = prior.quantile(0.98);
+  const measurements = s.measurements ?? [0.1, 0.25, 0.5, 0.75, 0.9].map((p) => prior.quantile(p));
+  const estimates: number[][][] = [];
+  const curveFiles: Record<string, string> = {};
+  const csv: string[] = ['condition,model,measurement,estimate'];
+  for (let c = 0; c < s.conditions.length; c++) {
+    const perModel: number[][] = [];
+    const series: Series[] = [];
+    const noise = observers[0].noise[c];
+    const space = noise.space;
+    // Measurements are tabulated in stimulus units; log-space noise measures log x.
+    const toM = (x: number) => (space === 'log' ? Math.log(x) : x);
+    const range = measurementRange(noise, lo, hi);
+    const mGrid = Array.from({ length: 121 }, (_, i) => lo + ((hi - lo) * i) / 120);
+    for (let k = 0; k < observers.length; k++) {
+      const obs = observers[k];
+      const { grid } = buildPosteriorGrid(obs.prior, obs.noise[c], range);
+      let hint = NaN;
+      perModel.push(measurements.map((m) => (hint = estimateAt(obs, grid, toM(m), hint))));
+      hint = NaN;
+      const ys = mGrid.map((m) => (hint = estimateAt(obs, grid, toM(m), hint)));
+      series.push({ name: s.models[k].name, x: mGrid, y: ys });
+      mGrid.forEach((m, i) => csv.push(`${s.conditions[c].name},${s.models[k].name},${m},${ys[i]}`));
+    }
+    estimates.push(perModel);
+    curveFiles[`estimate-curves-${s.conditions[c].name}.svg`] = await lineChart({
+      title: `Bayes estimate by measurement: ${s.conditions[c].name}`,
+      xTitle: space === 'log' ? 'measurement (as a magnitude, e^m)' : 'measurement m',
+      yTitle: 'estimate x̂(m)',
+      series,
+      reference: { name: 'identity', x: [lo, hi], y: [lo, hi] },
+    });
+  }
+  // Loss shapes over errors of about ±3 noise sds at the prior's centre, scaled to a peak of 1.
+  const sd0 = observers[0].noise[0].sdAt(prior.quantile(0.5)) * (observers[0].noise[0].space === 'log' ? prior.quantile(0.5) : 1);
+  const errs = Array.from({ length: 201 }, (_, i) => -3 * sd0 + (6 * sd0 * i) / 200);
+  const lossSeries: Series[] = observers.map((obs, k) => {
+    const ys = errs.map((e) => obs.loss.loss(e));
+    const top = Math.max(...ys) || 1;
+    return { name: s.models[k].name, x: errs, y: ys.map((y) => y / top) };
+  });
+  const files: Record<string, string> = {
+    'loss-shapes.svg': await lineChart({ title: 'Loss functions (scaled to 1 at the largest error shown)', xTitle: 'error (estimate − true value)', yTitle: 'relative loss', series: lossSeries }),
+    ...curveFiles,
+    'estimates.csv': csv.join('\n') + '\n',
+  };
+  const folder = o.out ?? join('results', `${s.name}-preview`);
+  writeFolderAtomically(folder, files);
+  return { scenario: s, measurements, estimates, folder };
+}
+
+export function printPreview(r: PreviewResult): void {
+  const s = r.scenario;
+  console.log(`Preview of '${s.name}': Bayes estimate at selected measurements (stimulus units)\n`);
+  for (let c = 0; c < s.conditions.length; c++) {
+    const table = new Table({ head: [`${s.conditions[c].name}: measurement`, ...s.models.map((m) => m.name)], style: { head: [], border: [] }, chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' } });
+    r.measurements.forEach((m, i) => table.push([pretty(m), ...s.models.map((_, k) => pretty(r.estimates[c][k][i]))]));
+    console.log(table.toString());
+  }
+  // Say plainly when candidates agree everywhere: the design then cannot tell them apart.
+  const same: string[] = [];
+  for (let a = 0; a < s.models.length; a++)
+    for (let b = a + 1; b < s.models.length; b++) {
+      let maxDiff = 0;
+      for (let c = 0; c < s.conditions.length; c++) r.estimates[c][a].forEach((v, i) => (maxDiff = Math.max(maxDiff, Math.abs(v - r.estimates[c][b][i]))));
+      const scale = Math.max(1e-12, ...r.estimates.flat(2).map(Math.abs));
+      if (maxDiff < 1e-6 * scale) same.push(`${s.models[a].name} and ${s.models[b].name}`);
+    }
+  if (same.length) console.log(`\nIdentical estimates under this design: ${same.join('; ')}. No number of trials can tell these apart here.`);
+  console.log(`\nFigures and estimates.csv written to ${r.folder}/`);
+}
