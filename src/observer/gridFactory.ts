@@ -9,15 +9,15 @@ import type { SensoryNoise, Warp, WarpContext } from './noise/types.js';
 import { GridPosterior } from './gridPosterior.js';
 
 /** Margin, in noise sds, beyond which a likelihood is treated as zero (e^-55). */
-export const LIKELIHOOD_MARGIN = 10.5;
+export const LIKELIHOOD_MARGIN = 9;
 /** Panel width in units of min(noise sd, prior feature). */
 const PANEL_WIDTH = 1.5;
 
 export function warpContext(prior: Distribution): WarpContext {
   // Scalar noise has no sd floor of its own; resolve down to a tenth of the
   // prior's lower tail (continuous in the prior's parameters).
-  const q = prior.quantile(1e-3);
-  const floor = q > 0 ? 0.1 * q : Math.max(1e-9, 0.01 * Math.abs(prior.mean()) || 1e-3);
+  const q = prior.quantile(1e-2);
+  const floor = q > 0 ? 0.5 * q : Math.max(1e-9, 0.01 * Math.abs(prior.mean()) || 1e-3);
   return { floor };
 }
 

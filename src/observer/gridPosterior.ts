@@ -20,6 +20,8 @@ import type { SensoryNoise, Warp } from './noise/types.js';
 
 export const NODES_PER_PANEL = 10;
 const LOG_CUTOFF = 46; // e^-46 ≈ 1e-20 relative to the peak is treated as zero
+/** Half-width, in noise sds, of the node window evaluated around the likelihood peak. */
+const WINDOW_U = 14;
 const MAX_NODES = 20000;
 
 export interface GridSetup {
@@ -67,12 +69,18 @@ export class GridPosterior {
   private measurement = NaN;
   /** False after convolveGaussian: the exact density is then no longer prior × likelihood. */
   exactAvailable = false;
+  /**
+   * The posterior is log-concave for every measurement (log-concave prior and
+   * constant Gaussian noise), so mode-seeking estimates need no global scan.
+   */
+  readonly logConcave: boolean;
 
   constructor(setup: GridSetup) {
     const { prior, noise, warp } = setup;
     this.warp = warp;
     this.prior = prior;
     this.noise = noise;
+    this.logConcave = prior.logConcave && noise.family === 'constant';
     const sLo = Number.isFinite(prior.support[0]) ? warp.toU(prior.support[0]) : -Infinity;
     const sHi = Number.isFinite(prior.support[1]) ? warp.toU(prior.support[1]) : Infinity;
     this.supportU = [sLo, sHi];
@@ -142,32 +150,87 @@ export class GridPosterior {
   /** Condition on measurement m (in the noise's measurement space). */
   setMeasurement(m: number): void {
     const J = this.nNodes;
+    this.measurement = m;
+    this.exactAvailable = true;
+    this.convolved = false;
+    // With a log-concave prior the posterior is unimodal and sits within a few
+    // noise sds of the likelihood peak: evaluate only there, and fall back to
+    // every node when the window's edges still carry mass.
+    if (this.prior.logConcave) {
+      const uPeak = this.warp.toU(this.noise.stimulusAt(m));
+      if (Number.isFinite(uPeak)) {
+        const a = this.nodeAtOrAbove(uPeak - WINDOW_U);
+        const b = this.nodeAtOrAbove(uPeak + WINDOW_U) - 1;
+        if (b - a > 2 * NODES_PER_PANEL) {
+          const max = this.evaluate(m, a, b);
+          const thr = max - LOG_CUTOFF;
+          const edgesEmpty = (a === 0 || this.logVal[a] < thr) && (b === J - 1 || this.logVal[b] < thr);
+          if (edgesEmpty && max > -Infinity) {
+            this.normalise(max, a, b);
+            return;
+          }
+        }
+      }
+    }
+    this.normalise(this.evaluate(m, 0, J - 1), 0, J - 1);
+  }
+
+  private evaluate(m: number, a: number, b: number): number {
     let max = -Infinity;
-    for (let j = 0; j < J; j++) {
+    for (let j = a; j <= b; j++) {
       const d = (m - this.center[j]) * this.invSd[j];
       const v = this.logBase[j] - 0.5 * d * d - this.logSd[j];
       this.logVal[j] = v;
       if (v > max) max = v;
     }
-    this.measurement = m;
-    this.exactAvailable = true;
-    this.normalise(max);
+    return max;
+  }
+
+  /** First node index with u ≥ target (nNodes when none). */
+  private nodeAtOrAbove(target: number): number {
+    let lo = 0;
+    let hi = this.nNodes;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.u[mid] < target) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo;
   }
 
   /** Unnormalised log posterior density in x, evaluated exactly (prior × likelihood). */
   exactLogDensity(x: number): number {
+    // Outside the prior's support the density is 0; without this, log-space
+    // noise gives NaN there (log of a negative x), which poisons the
+    // inverted-Gaussian kernel sum near a support end.
+    const lp = this.prior.logPdf(x);
+    if (lp === -Infinity) return -Infinity;
     const sd = this.noise.sdAt(x);
     const d = (this.measurement - this.noise.center(x)) / sd;
-    return this.prior.logPdf(x) - 0.5 * d * d - Math.log(sd);
+    return lp - 0.5 * d * d - Math.log(sd);
   }
 
-  /** Replace the node log-densities (in u) and normalise; used by the motor-aware view. */
-  private normalise(max: number): void {
-    const J = this.nNodes;
+  /** Set by convolveGaussian until the next measurement. */
+  convolved = false;
+
+  /** A log-concave posterior stays log-concave under Gaussian convolution. */
+  get isLogConcave(): boolean {
+    return this.logConcave;
+  }
+
+  /** Index of the node with the highest density. */
+  peakNode(): number {
+    let best = this.first;
+    for (let j = this.first; j <= this.last; j++) if (this.f[j] > this.f[best]) best = j;
+    return best;
+  }
+
+  /** Normalise the node log-densities held in logVal[a..b] (in u). */
+  private normalise(max: number, a = 0, b = this.nNodes - 1): void {
     const thr = max - LOG_CUTOFF;
     let first = -1;
     let last = -1;
-    for (let j = 0; j < J; j++) {
+    for (let j = a; j <= b; j++) {
       if (this.logVal[j] >= thr) {
         if (first < 0) first = j;
         last = j;
@@ -396,5 +459,6 @@ export class GridPosterior {
     for (let j = 0; j < J; j++) if (out[j] > max) max = out[j];
     this.exactAvailable = false;
     this.normalise(max);
+    this.convolved = true;
   }
 }

@@ -17,22 +17,85 @@ import { closedFormEstimate, evaluateClosedForm, type ClosedFormEstimate } from 
 import { EstimateCurve } from './estimateCurve.js';
 import type { Dataset, Observer } from './observer.js';
 import type { SensoryNoise } from './noise/types.js';
-import { LIKELIHOOD_MARGIN } from './gridFactory.js';
 
 const SUBSTEP = 0.7;
 const MAX_SUB = 4000;
 const KERNEL_CUT = 9;
 const TINY = 1e-300;
-const INV_2PI = 1 / (2 * Math.PI);
+const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
+/** Measurements beyond 8.5 sensory sds from the stimulus carry < 1e-15 of the mass. */
+const WINDOW = 8.5;
 
 type Kernel = 0 | 1 | 2; // 0: density at r, 1: P(response ≤ r), 2: P(response ≥ r)
 
 export class ConditionResponse {
   readonly curve: EstimateCurve | null;
   readonly closed: ClosedFormEstimate | null;
+  private readonly nodeM: Float64Array;
+  private readonly nodeJ: Float64Array;
+  private readonly nodeCurv: Float64Array;
+  private readonly gVal: Float64Array;
+  private readonly gDer: Float64Array;
+  private readonly pVal: Float64Array;
+  private readonly pDer: Float64Array;
+  private readonly stampOf: Int32Array;
+  private stamp = 0;
+
   constructor(readonly obs: Observer, readonly noise: SensoryNoise, xLo: number, xHi: number) {
     this.closed = closedFormEstimate(obs, noise);
     this.curve = this.closed && this.closed.kind === 'linear' ? null : new EstimateCurve(obs, noise, xLo, xHi);
+    const n = this.curve ? this.curve.v.length : 0;
+    this.nodeM = new Float64Array(n);
+    this.nodeJ = new Float64Array(n);
+    this.nodeCurv = new Float64Array(n);
+    this.gVal = new Float64Array(n);
+    this.gDer = new Float64Array(n);
+    this.pVal = new Float64Array(n);
+    this.pDer = new Float64Array(n);
+    this.stampOf = new Int32Array(n).fill(-1);
+    if (this.curve) {
+      const w = this.curve.warpM;
+      for (let k = 0; k < n; k++) {
+        const vk = this.curve.v[k];
+        this.nodeM[k] = w.fromU(vk);
+        this.nodeJ[k] = w.dxdu(vk);
+        this.nodeCurv[k] = w.curvature(vk);
+      }
+    }
+  }
+
+  private cur = { c: 0, invSd: 1, pNorm: 1, r: 0, invSm: 1, kernel: 0 as Kernel, stamp: 0 };
+
+  /** Node values of g = K·p and g′ (and of p, p′ for the kernel-free parts), once per node per trial. */
+  private evalNode(k: number): void {
+    const { c, invSd, pNorm, r, invSm, kernel, stamp } = this.cur;
+    if (this.stampOf[k] === stamp) return;
+    this.stampOf[k] = stamp;
+    const J = this.nodeJ[k];
+    const zm = (this.nodeM[k] - c) * invSd;
+    const dlogp = -zm * J * invSd + this.nodeCurv[k];
+    const curve = this.curve!;
+    const z = (r - curve.xh[k]) * invSm;
+    const sl = curve.slope[k];
+    if (kernel === 0) {
+      if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+        this.gVal[k] = 0;
+        this.gDer[k] = 0;
+        return;
+      }
+      const g = Math.exp(-0.5 * (zm * zm + z * z)) * J * pNorm * invSm * INV_SQRT_2PI;
+      this.gVal[k] = g;
+      this.gDer[k] = g * (dlogp + z * invSm * sl);
+      return;
+    }
+    const p = Math.exp(-0.5 * zm * zm) * J * pNorm;
+    this.pVal[k] = p;
+    this.pDer[k] = p * dlogp;
+    const inCut = z <= KERNEL_CUT && z >= -KERNEL_CUT;
+    const phi = inCut ? Math.exp(-0.5 * z * z) * INV_SQRT_2PI : 0;
+    const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z)) : z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
+    this.gVal[k] = p * K;
+    this.gDer[k] = p * (dlogp * K + (kernel === 1 ? -1 : 1) * phi * invSm * sl);
   }
 
   /** ∫ K(r, x̂(v)) p(v | x) dv without lapses. */
@@ -49,100 +112,66 @@ export class ConditionResponse {
     }
     const curve = this.curve!;
     const { v, xh, slope, breakAfter, warpM } = curve;
+    const { gVal, gDer, pVal, pDer } = this;
     const c = this.noise.center(x);
     const sd = this.noise.sdAt(x);
-    const vA = warpM.toU(c - LIKELIHOOD_MARGIN * sd);
-    const vB = warpM.toU(c + LIKELIHOOD_MARGIN * sd);
-    const i0 = curve.segmentOf(vA);
-    const i1 = curve.segmentOf(vB);
+    const i0 = curve.segmentOf(warpM.toU(c - WINDOW * sd));
+    const i1 = curve.segmentOf(warpM.toU(c + WINDOW * sd));
     const reach = KERNEL_CUT * sm;
     const invSm = 1 / sm;
     const invSd = 1 / sd;
-    const norm = INV_2PI * invSm * invSd;
-    const pNorm = invSd / Math.sqrt(2 * Math.PI);
+    const pNorm = invSd * INV_SQRT_2PI;
+    const stamp = ++this.stamp;
+    this.cur = { c, invSd, pNorm, r, invSm, kernel, stamp };
     let total = 0;
-    // g'(v) at a curve node: derivative of K(r, x̂(v))·p(v | x).
-    const gPrime = (node: number): number => {
-      const vn = v[node];
-      const m = warpM.fromU(vn);
-      const J = warpM.dxdu(vn);
-      const zm = (m - c) * invSd;
-      const p = Math.exp(-0.5 * zm * zm) * J * pNorm;
-      const dlogp = -zm * J * invSd + warpM.curvature(vn);
-      const z = (r - xh[node]) * invSm;
-      if (kernel === 0) {
-        if (z > KERNEL_CUT || z < -KERNEL_CUT) return 0;
-        const k = Math.exp(-0.5 * z * z) * invSm / Math.sqrt(2 * Math.PI);
-        return p * k * (dlogp + z * invSm * slope[node]);
-      }
-      const phi = z > KERNEL_CUT || z < -KERNEL_CUT ? 0 : Math.exp(-0.5 * z * z) / Math.sqrt(2 * Math.PI);
-      const k = kernel === 1 ? (z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z)) : z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
-      const dk = (kernel === 1 ? -1 : 1) * phi * invSm * slope[node];
-      return p * (dlogp * k + dk);
-    };
-    const correct = (i: number, a: number, b: number, d: number): void => {
-      // Only at true nodes; clip points sit where p(v | x) is ~e^-55.
-      const ga = a === v[i] ? gPrime(i) : 0;
-      const gb = b === v[i + 1] ? gPrime(i + 1) : 0;
-      total -= ((d * d) / 12) * (gb - ga);
-    };
     for (let i = i0; i <= i1; i++) {
       if (breakAfter[i]) continue;
-      const a = Math.max(v[i], vA);
-      const b = Math.min(v[i + 1], vB);
-      if (!(b > a)) continue;
       const h = v[i + 1] - v[i];
-      const over = 0.25 * h * (Math.abs(slope[i]) + Math.abs(slope[i + 1]));
+      if (!(h > 0)) continue;
+      // Bound on how far the cubic strays from its chord (it bends by the slope change).
+      const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
       const segLo = Math.min(xh[i], xh[i + 1]) - over;
       const segHi = Math.max(xh[i], xh[i + 1]) + over;
       const touches = segHi > r - reach && segLo < r + reach;
       if (!touches) {
-        // Kernel is 0 or 1 over the whole segment.
         if (kernel === 0) continue;
-        const inside = kernel === 1 ? segHi < r : segLo > r;
-        if (!inside) continue;
-        total += this.measurementMass(a, b, c, invSd, pNorm);
-        correct(i, a, b, (b - a) / Math.max(1, Math.ceil((b - a) / 0.25)));
+        // The kernel is 0 or 1 over the whole segment.
+        if (!(kernel === 1 ? segHi < r : segLo > r)) continue;
+        this.evalNode(i);
+        this.evalNode(i + 1);
+        total += 0.5 * h * (pVal[i] + pVal[i + 1]) - ((h * h) / 12) * (pDer[i + 1] - pDer[i]);
         continue;
       }
-      const span = segHi - segLo;
-      let n = Math.ceil(span / (SUBSTEP * sm));
-      if (n < 1) n = 1;
+      this.evalNode(i);
+      this.evalNode(i + 1);
+      let n = Math.ceil((segHi - segLo) / (SUBSTEP * sm));
       if (n > MAX_SUB) n = MAX_SUB;
-      const d = (b - a) / n;
-      correct(i, a, b, d);
-      for (let s = 0; s <= n; s++) {
-        const vs = a + s * d;
-        const w = s === 0 || s === n ? 0.5 * d : d;
+      if (n <= 1) {
+        // Trapezoid with its Euler–Maclaurin end correction; corrections of equal
+        // neighbouring steps cancel, so the composite rule keeps its accuracy.
+        total += 0.5 * h * (gVal[i] + gVal[i + 1]) - ((h * h) / 12) * (gDer[i + 1] - gDer[i]);
+        continue;
+      }
+      const d = h / n;
+      let acc = 0.5 * (gVal[i] + gVal[i + 1]);
+      for (let s = 1; s < n; s++) {
+        const vs = v[i] + s * d;
         const xs = curve.interpolate(i, vs);
         const z = (r - xs) * invSm;
-        const m = warpM.fromU(vs);
-        const zm = (m - c) * invSd;
-        if (kernel === 0) {
-          if (z > KERNEL_CUT || z < -KERNEL_CUT) continue;
-          total += w * Math.exp(-0.5 * (z * z + zm * zm)) * warpM.dxdu(vs) * norm;
-        } else {
-          const k = kernel === 1 ? (z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z)) : z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
-          if (k === 0) continue;
-          total += w * k * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
+        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+          if (kernel === 0) continue;
+          if (kernel === 1 ? z < 0 : z > 0) continue;
+        }
+        const zm = (warpM.fromU(vs) - c) * invSd;
+        if (kernel === 0) acc += Math.exp(-0.5 * (zm * zm + z * z)) * warpM.dxdu(vs) * pNorm * invSm * INV_SQRT_2PI;
+        else {
+          const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : normCdf(z)) : z < -KERNEL_CUT ? 1 : normCdf(-z);
+          acc += K * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
         }
       }
+      total += d * acc - ((d * d) / 12) * (gDer[i + 1] - gDer[i]);
     }
     return total;
-  }
-
-  /** Trapezoid mass of the measurement density over [a, b] in v (coarse: the integrand is smooth there). */
-  private measurementMass(a: number, b: number, c: number, invSd: number, pNorm: number): number {
-    const warpM = this.curve!.warpM;
-    const n = Math.max(1, Math.ceil((b - a) / 0.25));
-    const d = (b - a) / n;
-    let s = 0;
-    for (let k = 0; k <= n; k++) {
-      const vs = a + k * d;
-      const zm = (warpM.fromU(vs) - c) * invSd;
-      s += (k === 0 || k === n ? 0.5 : 1) * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs);
-    }
-    return s * d * pNorm;
   }
 
   /** Probability density (interior) or mass (censored end) of response r to stimulus x. */

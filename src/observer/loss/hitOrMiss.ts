@@ -82,7 +82,20 @@ export function hitOrMissLoss(window: number): LossFunction {
     family: 'hit-or-miss',
     params: { window },
     loss: (e) => (Math.abs(e) < window ? 0 : 1),
-    estimate: (post) => polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window),
+    estimate: (post) => {
+      if (post.isLogConcave && post.exactAvailable) {
+        // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
+        // within ε of the mode, so bracket there and skip the scan.
+        const j = post.peakNode();
+        const a = post.x[Math.max(post.first, j - 1)] - window;
+        const b = post.x[Math.min(post.last, j + 1)] + window;
+        const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
+        const ga = g(a);
+        const gb = g(b);
+        if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])));
+      }
+      return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
+    },
     mayJump: true,
     symmetric: true,
   };

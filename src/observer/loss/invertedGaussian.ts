@@ -7,6 +7,7 @@
  */
 import { z } from 'zod';
 import { gaussHermite } from '../../numerics/gaussRules.js';
+import { brentMinimize } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
 import { maximiseOverNodes } from './hitOrMiss.js';
 import type { LossFunction, LossParameter } from './types.js';
@@ -62,7 +63,16 @@ export function invertedGaussianLoss(width: number): LossFunction {
       const panelX = 2 * post.panelHalf[p] * post.warp.dxdu(uMid);
       const narrow = width < 0.5 * panelX;
       const ref = post.exactAvailable ? post.exactLogDensity(post.x[jMax]) : 0;
-      return maximiseOverNodes(post, (c) => smoothedPosterior(post, c, width, narrow, ref), 3);
+      const objective = (c: number) => smoothedPosterior(post, c, width, narrow, ref);
+      if (post.isLogConcave) {
+        // A log-concave posterior smoothed by a Gaussian stays log-concave, so its
+        // maximum lies between the mode and the mean: a bracketed search suffices.
+        const mean = post.mean();
+        const lo = Math.min(mean, post.x[Math.max(post.first, jMax - 1)]);
+        const hi = Math.max(mean, post.x[Math.min(post.last, jMax + 1)]);
+        return brentMinimize((c) => -objective(c), lo, hi, 1e-12).x;
+      }
+      return maximiseOverNodes(post, objective, 3);
     },
     mayJump: true,
     symmetric: true,

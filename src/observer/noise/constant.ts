@@ -15,6 +15,9 @@ export class ConstantNoise implements SensoryNoise {
   readonly needsPositiveStimulus = false;
   readonly shiftInvariant = true;
   constructor(readonly sd: number) {}
+  stimulusAt(m: number): number {
+    return m;
+  }
   center(x: number): number {
     return x;
   }

@@ -26,6 +26,9 @@ export class GeneralizedNoise implements SensoryNoise {
     this.w2 = weber * weber;
     this.shiftInvariant = weber === 0;
   }
+  stimulusAt(m: number): number {
+    return m;
+  }
   center(x: number): number {
     return x;
   }

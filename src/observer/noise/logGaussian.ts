@@ -19,6 +19,9 @@ export class LogGaussianNoise implements SensoryNoise {
   readonly needsPositiveStimulus = true;
   readonly shiftInvariant = true;
   constructor(readonly sd: number) {}
+  stimulusAt(m: number): number {
+    return Math.exp(m);
+  }
   center(x: number): number {
     return Math.log(x);
   }

@@ -19,6 +19,9 @@ export class ScalarNoise implements SensoryNoise {
   readonly needsPositiveStimulus = true;
   readonly shiftInvariant = false;
   constructor(readonly weber: number) {}
+  stimulusAt(m: number): number {
+    return m;
+  }
   center(x: number): number {
     return x;
   }

@@ -29,6 +29,8 @@ export interface SensoryNoise {
   /** True when the sd does not depend on x in the warped coordinates (then p(m|x) depends on v − u only). */
   readonly shiftInvariant: boolean;
   center(x: number): number;
+  /** The stimulus whose noiseless measurement is m (inverse of center). */
+  stimulusAt(m: number): number;
   sdAt(x: number): number;
   sample(x: number, rand: RandomStream): number;
   /** Coordinates for stimulus grids: the noise sd is about one unit everywhere. */
