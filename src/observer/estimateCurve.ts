@@ -1,9 +1,11 @@
 /**
  * The Bayes estimate x̂ as a function of the measurement, for one condition,
- * tabulated on a uniform grid in warped measurement coordinates v and
- * interpolated by C¹ cubic Hermite pieces. Where the estimate jumps (bimodal
- * posteriors with mode-seeking losses) the jump is located by bisection and
- * the curve is split there, so no interpolant ever bridges the gap.
+ * tabulated in warped measurement coordinates v (noise sds) and interpolated
+ * by C¹ cubic Hermite pieces. A base grid is refined adaptively where the
+ * interpolant misses the estimate (steep transitions under bimodal
+ * posteriors); where the estimate jumps (mode-seeking losses, Weber noise at
+ * m = 0) refinement closes in on the jump and the curve is split there, so no
+ * interpolant ever bridges the gap.
  */
 import type { GridPosterior } from './gridPosterior.js';
 import type { Observer } from './observer.js';
@@ -12,7 +14,7 @@ import { buildPosteriorGrid, measurementRange } from './gridFactory.js';
 import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
 
 /** Grid step in v (noise sds). */
-export const CURVE_STEP = 0.25;
+export const CURVE_STEP = Number(process.env.LP_CURVE_STEP ?? 0.5);
 
 /** Pointwise Bayes estimate at measurement m (used by the curve and by the sampler). */
 export function estimateAt(obs: Observer, post: GridPosterior, m: number, hint: number): number {
@@ -38,106 +40,166 @@ export class EstimateCurve {
     const h = CURVE_STEP;
     const kLo = Math.floor(warpM.toU(range.lo) / h);
     const kHi = Math.ceil(warpM.toU(range.hi) / h);
-    const vs: number[] = [];
-    const xs: number[] = [];
-    const brk: number[] = [];
-    let hint = NaN;
     const closed = closedFormEstimate(obs, noise);
-    for (let k = kLo; k <= kHi; k++) {
-      const v = k * h;
+    let hint = NaN;
+    const at = (v: number): number => {
       const m = warpM.fromU(v);
-      const e = closed ? evaluateClosedForm(closed, m) : estimateAt(obs, grid, m, hint);
-      vs.push(v);
-      xs.push(e);
-      brk.push(0);
-      hint = e;
+      return (hint = closed ? evaluateClosedForm(closed, m) : estimateAt(obs, grid, m, hint));
+    };
+    let vs: number[] = [];
+    let xs: number[] = [];
+    for (let k = kLo; k <= kHi; k++) {
+      vs.push(k * h);
+      xs.push(at(k * h));
     }
-    // Jumps come from losses (bimodal posteriors) and from noise models alike
-    // (scalar noise flips the estimate at m = 0), so always look for them.
-    if (!closed) this.splitJumps(vs, xs, brk);
+    let brk: number[] = new Array(vs.length).fill(0);
+    if (!closed) [vs, xs, brk] = this.refine(vs, xs, at, [xLo, xHi]);
     this.v = Float64Array.from(vs);
     this.xh = Float64Array.from(xs);
     this.breakAfter = Uint8Array.from(brk);
     this.slope = new Float64Array(this.v.length);
-    this.computeSlopes();
+    computeSlopes(this.v, this.xh, this.breakAfter, this.slope);
   }
 
-  private splitJumps(vs: number[], xs: number[], brk: number[]): void {
-    const n = vs.length;
-    const d = (i: number) => (i >= 0 && i < n - 1 ? Math.abs(xs[i + 1] - xs[i]) : 0);
-    const scale = Math.max(1e-300, ...xs.map(Math.abs));
-    const jumps: number[] = [];
-    for (let i = 0; i < n - 1; i++) {
-      const di = d(i);
-      if (di > 4 * Math.max(d(i - 1), d(i + 1)) && di > 1e-9 * scale) jumps.push(i);
+  /**
+   * Adaptive refinement: every segment's midpoint is computed and compared
+   * with the cubic interpolant; where they disagree by more than a tolerance
+   * tied to the motor noise (the scale on which the response density can see
+   * an error in x̂) both halves are checked again. A segment that still fails
+   * at the finest width holds a jump and is split there. Midpoints are kept
+   * either way, so the base grid's step is halved everywhere.
+   */
+  /**
+   * Could a stimulus in the design's range produce a measurement in [va, vb]
+   * within 5 sensory sds? Elsewhere p(m | x) < 4e-6 of its peak and the
+   * interpolation error there cannot reach the likelihood.
+   */
+  private plausible(va: number, vb: number, [xLo, xHi]: readonly [number, number]): boolean {
+    const n = this.noise;
+    for (const v of [va, vb]) {
+      const m = this.warpM.fromU(v);
+      const xs = [xLo, xHi, Math.min(xHi, Math.max(xLo, n.stimulusAt(m)))];
+      for (const x of xs) if (Math.abs(m - n.center(x)) < 5 * n.sdAt(x)) return true;
     }
-    // Insert from the right so indices stay valid.
-    for (let q = jumps.length - 1; q >= 0; q--) {
-      const i = jumps[q];
-      let vL = vs[i];
-      let vR = vs[i + 1];
-      let xL = xs[i];
-      let xR = xs[i + 1];
-      for (let it = 0; it < 60 && vR - vL > 1e-11 * CURVE_STEP; it++) {
-        const vm = 0.5 * (vL + vR);
-        const xm = estimateAt(this.obs, this.post, this.warpM.fromU(vm), NaN);
-        if (Math.abs(xm - xL) <= Math.abs(xm - xR)) {
-          vL = vm;
-          xL = xm;
-        } else {
-          vR = vm;
-          xR = xm;
+    // A segment can also straddle the plausible band without its ends being in it.
+    const mA = this.warpM.fromU(va);
+    const mB = this.warpM.fromU(vb);
+    return Math.min(mA, mB) < n.center(xLo) && Math.max(mA, mB) > n.center(xHi);
+  }
+
+  private refine(vs: number[], xs: number[], at: (v: number) => number, xLoHi: readonly [number, number]): [number[], number[], number[]] {
+    // Never below the estimate's own numerical noise (~1e-8 of its magnitude).
+    const tol = Math.max(REFINE_TOL * this.obs.motorSd, 1e-7 * Math.max(...xs.map(Math.abs)));
+    let brk = new Array(vs.length).fill(0);
+    let check = new Array(vs.length).fill(1); // check[i]: segment i still to be tested
+    for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
+      const v = Float64Array.from(vs);
+      const x = Float64Array.from(xs);
+      const b = Uint8Array.from(brk);
+      const sl = new Float64Array(v.length);
+      computeSlopes(v, x, b, sl);
+      const nv: number[] = [];
+      const nx: number[] = [];
+      const nb: number[] = [];
+      const nc: number[] = [];
+      let any = false;
+      for (let i = 0; i < vs.length; i++) {
+        nv.push(vs[i]);
+        nx.push(xs[i]);
+        if (i === vs.length - 1) {
+          nb.push(0);
+          nc.push(0);
+          break;
         }
+        if (!check[i] || brk[i] || !this.plausible(vs[i], vs[i + 1], xLoHi)) {
+          nb.push(brk[i]);
+          nc.push(0);
+          continue;
+        }
+        const vm = 0.5 * (vs[i] + vs[i + 1]);
+        const pred = hermite(v, x, sl, i, vm);
+        const actual = at(vm);
+        const failed = Math.abs(pred - actual) > tol;
+        if (failed && round === MAX_REFINE_ROUNDS - 1 && Math.abs(pred - actual) > JUMP_FACTOR * tol) {
+          // Finest width reached and still no agreement: a jump. Split at the
+          // midpoint, keeping each side's limit.
+          const leftCloser = Math.abs(actual - xs[i]) <= Math.abs(actual - xs[i + 1]);
+          nb.push(leftCloser ? 0 : 1);
+          nc.push(0);
+          nv.push(vm);
+          nx.push(actual);
+          nb.push(leftCloser ? 1 : 0);
+          nc.push(0);
+          continue;
+        }
+        nb.push(0);
+        nc.push(failed ? 1 : 0);
+        nv.push(vm);
+        nx.push(actual);
+        nb.push(0);
+        nc.push(failed ? 1 : 0);
+        any = any || failed;
       }
-      vs.splice(i + 1, 0, vL, vR);
-      xs.splice(i + 1, 0, xL, xR);
-      brk.splice(i + 1, 0, 1, 0);
+      vs = nv;
+      xs = nx;
+      brk = nb;
+      check = nc;
+      if (!any) break;
     }
+    return [vs, xs, brk];
   }
 
-  /** Three-point (non-uniform) derivative estimates within each unbroken piece. */
-  private computeSlopes(): void {
-    const { v, xh, slope, breakAfter } = this;
-    const n = v.length;
-    for (let i = 0; i < n; i++) {
-      const hasL = i > 0 && !breakAfter[i - 1] && v[i] > v[i - 1];
-      const hasR = i < n - 1 && !breakAfter[i] && v[i + 1] > v[i];
-      if (hasL && hasR) {
-        const h0 = v[i] - v[i - 1];
-        const h1 = v[i + 1] - v[i];
-        const d0 = (xh[i] - xh[i - 1]) / h0;
-        const d1 = (xh[i + 1] - xh[i]) / h1;
-        slope[i] = (h1 * d0 + h0 * d1) / (h0 + h1);
-      } else if (hasR) slope[i] = (xh[i + 1] - xh[i]) / (v[i + 1] - v[i]);
-      else if (hasL) slope[i] = (xh[i] - xh[i - 1]) / (v[i] - v[i - 1]);
-      else slope[i] = 0;
-    }
-  }
-
-  /** Index i with v[i] ≤ v < v[i+1] (clamped). */
+  /** Index i with v[i] ≤ v < v[i+1] (clamped), by bisection (nodes are not uniform). */
   segmentOf(v: number): number {
-    const h = CURVE_STEP;
-    let i = Math.floor((v - this.v[0]) / h);
-    if (i < 0) i = 0;
-    if (i > this.v.length - 2) i = this.v.length - 2;
-    while (i > 0 && this.v[i] > v) i--;
-    while (i < this.v.length - 2 && this.v[i + 1] <= v) i++;
-    return i;
+    const a = this.v;
+    let lo = 0;
+    let hi = a.length - 2;
+    if (v <= a[0]) return 0;
+    if (v >= a[hi]) return hi;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (a[mid] <= v) lo = mid;
+      else hi = mid - 1;
+    }
+    return lo;
   }
 
   /** Cubic Hermite interpolation on segment i at v. */
   interpolate(i: number, v: number): number {
-    const v0 = this.v[i];
-    const h = this.v[i + 1] - v0;
-    if (h <= 0) return this.xh[i];
-    const t = (v - v0) / h;
-    const t2 = t * t;
-    const t3 = t2 * t;
-    return (
-      (2 * t3 - 3 * t2 + 1) * this.xh[i] +
-      (t3 - 2 * t2 + t) * h * this.slope[i] +
-      (-2 * t3 + 3 * t2) * this.xh[i + 1] +
-      (t3 - t2) * h * this.slope[i + 1]
-    );
+    return hermite(this.v, this.xh, this.slope, i, v);
+  }
+}
+
+/** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
+const REFINE_TOL = 1e-4;
+const MAX_REFINE_ROUNDS = 14;
+/** At the finest width, a miss this many tolerances wide is a jump, not noise. */
+const JUMP_FACTOR = 100;
+
+function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Array, i: number, v: number): number {
+  const v0 = vArr[i];
+  const h = vArr[i + 1] - v0;
+  if (h <= 0) return xh[i];
+  const t = (v - v0) / h;
+  const t2 = t * t;
+  const t3 = t2 * t;
+  return (2 * t3 - 3 * t2 + 1) * xh[i] + (t3 - 2 * t2 + t) * h * slope[i] + (-2 * t3 + 3 * t2) * xh[i + 1] + (t3 - t2) * h * slope[i + 1];
+}
+
+/** Three-point (non-uniform) derivative estimates within each unbroken piece. */
+function computeSlopes(v: Float64Array, xh: Float64Array, breakAfter: Uint8Array, slope: Float64Array): void {
+  const n = v.length;
+  for (let i = 0; i < n; i++) {
+    const hasL = i > 0 && !breakAfter[i - 1] && v[i] > v[i - 1];
+    const hasR = i < n - 1 && !breakAfter[i] && v[i + 1] > v[i];
+    if (hasL && hasR) {
+      const h0 = v[i] - v[i - 1];
+      const h1 = v[i + 1] - v[i];
+      const d0 = (xh[i] - xh[i - 1]) / h0;
+      const d1 = (xh[i + 1] - xh[i]) / h1;
+      slope[i] = (h1 * d0 + h0 * d1) / (h0 + h1);
+    } else if (hasR) slope[i] = (xh[i + 1] - xh[i]) / (v[i + 1] - v[i]);
+    else if (hasL) slope[i] = (xh[i] - xh[i - 1]) / (v[i] - v[i - 1]);
+    else slope[i] = 0;
   }
 }

@@ -44,8 +44,10 @@ export function maximiseOverNodes(post: GridPosterior, objective: (c: number) =>
   for (let k = 0; k < Math.min(candidates, vals.length); k++) {
     if (k > 0 && vals[k].v < vals[0].v - 1e-3 * Math.abs(vals[0].v)) break;
     const j = vals[k].j;
-    const a = xs[Math.max(post.first, j - 1)];
-    const b = xs[Math.min(post.last, j + 1)];
+    // At the first/last node, search out to the window's edge (a finite support end
+    // for truncated posteriors): the optimum can lie between that end and the node.
+    const a = j > post.first ? xs[j - 1] : post.warp.fromU(post.panelStart[post.firstPanel]);
+    const b = j < post.last ? xs[j + 1] : post.warp.fromU(post.panelStart[post.lastPanel] + 2 * post.panelHalf[post.lastPanel]);
     const r = brentMinimize((c) => -objective(c), a, b, 1e-12);
     if (-r.value > bestV) {
       bestV = -r.value;

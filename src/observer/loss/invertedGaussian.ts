@@ -6,7 +6,7 @@
  * for wide ε and to the mode for narrow ε.
  */
 import { z } from 'zod';
-import { gaussHermite } from '../../numerics/gaussRules.js';
+import { gaussHermite, gaussLegendre } from '../../numerics/gaussRules.js';
 import { brentMinimize } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
 import { maximiseOverNodes } from './hitOrMiss.js';
@@ -30,6 +30,30 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     const gh = gaussHermite(20);
     const s = Math.SQRT2 * width;
     let acc = 0;
+    // The 20 Hermite nodes reach ±7.6ε. Where that crosses a finite support end the
+    // density jumps (uniform) or bends to 0 (gamma) there, which Gauss–Hermite cannot
+    // integrate; use Gauss–Legendre on the part of [c − 8ε, c + 8ε] inside the support.
+    const sLo = post.warp.fromU(post.supportU[0]);
+    const sHi = post.warp.fromU(post.supportU[1]);
+    const reach = 8 * width;
+    if (c - reach < sLo || c + reach > sHi) {
+      const lo = Math.max(sLo, c - reach);
+      const hi = Math.min(sHi, c + reach);
+      if (!(hi > lo)) return 0;
+      const gl = gaussLegendre(20);
+      const pieces = 4;
+      const half = (hi - lo) / (2 * pieces);
+      for (let q = 0; q < pieces; q++) {
+        const mid = lo + (2 * q + 1) * half;
+        for (let k = 0; k < gl.nodes.length; k++) {
+          const x = mid + half * gl.nodes[k];
+          const z = (c - x) / width;
+          const dens = post.exactAvailable ? Math.exp(post.exactLogDensity(x) - ref) : post.densityX(x);
+          acc += gl.weights[k] * dens * Math.exp(-0.5 * z * z);
+        }
+      }
+      return acc * half;
+    }
     if (post.exactAvailable) {
       for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * Math.exp(post.exactLogDensity(c + s * gh.nodes[k]) - ref);
     } else {
