@@ -9,7 +9,7 @@ import { previewScenarioSchema, type PreviewScenario } from '../scenario/preview
 import { readStructuredFile, validate } from '../scenario/load.js';
 import { observerFor } from '../scenario/buildObserver.js';
 import { buildPosteriorGrid, measurementRange } from '../observer/gridFactory.js';
-import { estimateAt } from '../observer/estimateCurve.js';
+import { estimateAt, motorReach } from '../observer/estimateCurve.js';
 import { lineChart, type Series } from '../report/charts.js';
 import { writeFolderAtomically } from '../report/writeFolder.js';
 import { UserError } from './userError.js';
@@ -91,7 +91,7 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
     const mGrid = Array.from({ length: 121 }, (_, i) => lo + ((hi - lo) * i) / 120);
     for (let k = 0; k < observers.length; k++) {
       const obs = observers[k];
-      const { grid } = buildPosteriorGrid(obs.prior, obs.noise[c], range);
+      const { grid } = buildPosteriorGrid(obs.prior, obs.noise[c], range, motorReach(obs));
       let hint = NaN;
       perModel.push(measurements.map((m) => (hint = estimateAt(obs, grid, toM(m), hint))));
       hint = NaN;

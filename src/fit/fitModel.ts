@@ -135,7 +135,9 @@ export function fitModel(model: CandidateModel, data: Dataset, options: FitOptio
         const p = 0.05 + 0.9 * ui;
         return Math.log(p / (1 - p));
       });
-      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 1e-7 });
+      // Gradient step 1e-3: large enough that quadrature-level roughness of the
+      // likelihood (≲1e-5) cannot dominate the difference quotient.
+      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 1e-7, gradientStep: 1e-3 });
       if (!r.converged && r.evaluations < budget && Number.isFinite(r.value)) {
         const nm = nelderMead(f, r.x, { maxEvaluations: budget - r.evaluations, initialStep: 0.3, restart: false });
         r = { ...nm, evaluations: r.evaluations + nm.evaluations, reason: `${r.reason}; then ${nm.reason}` };
@@ -155,7 +157,7 @@ export function fitModel(model: CandidateModel, data: Dataset, options: FitOptio
   let hessianRatio = NaN;
   let flatDirection = false;
   if (k > 0 && !options.skipUncertainty) {
-    const H = numericalHessian(f, zHat, 1e-3);
+    const H = numericalHessian(f, zHat, 1e-2);
     evaluations += 1 + 2 * k * k;
     const inv = invertSymmetric(H);
     if (inv) {

@@ -36,6 +36,12 @@ export interface MinimizeOptions {
   gradientTolerance?: number;
   /** Nelder–Mead: restart once from the best point after an early stop. Default true. */
   restart?: boolean;
+  /**
+   * BFGS: relative step of the central-difference gradient, default 1e-5.
+   * Objectives computed by quadrature carry tiny steps of their own; a larger
+   * step keeps those from dominating the gradient.
+   */
+  gradientStep?: number;
 }
 
 export interface MinimizeResult {
@@ -256,11 +262,11 @@ interface Gradient {
 }
 
 /**
- * Central differences with h ≈ 1e-5·max(1, |x_i|): near the cube root of machine
+ * Central differences with h ≈ step·max(1, |x_i|) (default 1e-5): near the cube root of machine
  * epsilon, balancing truncation against roundoff. Next to a non-finite wall the
  * one-sided difference from the finite side is used instead.
  */
-function numericalGradient(obj: BudgetedObjective, x: readonly number[], fx: number): Gradient {
+function numericalGradient(obj: BudgetedObjective, x: readonly number[], fx: number, step = 1e-5): Gradient {
   const n = x.length;
   const g = new Array<number>(n).fill(0);
   let reliable = true;
@@ -268,7 +274,7 @@ function numericalGradient(obj: BudgetedObjective, x: readonly number[], fx: num
     const xi = x[i];
     const xp = x.slice();
     const xm = x.slice();
-    xp[i] = xi + 1e-5 * Math.max(1, Math.abs(xi));
+    xp[i] = xi + step * Math.max(1, Math.abs(xi));
     // Using the steps actually represented in floating point removes one error source.
     const hp = xp[i] - xi;
     xm[i] = xi - hp;
@@ -301,13 +307,14 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
   const xTol = positiveOr(options.xTolerance, 1e-8, 'xTolerance');
   const fTol = positiveOr(options.fTolerance, 1e-10, 'fTolerance');
   const gTol = positiveOr(options.gradientTolerance, 1e-6, 'gradientTolerance');
+  const gStep = positiveOr(options.gradientStep, 1e-5, 'gradientStep');
 
   let x = x0.slice();
   let fx = obj.evaluate(x);
   if (fx === Infinity) return obj.result(false, NON_FINITE_START);
   if (n === 0) return obj.result(true, 'zero-dimensional problem');
 
-  let { g, reliable } = numericalGradient(obj, x, fx);
+  let { g, reliable } = numericalGradient(obj, x, fx, gStep);
   let H = identity(n);
   // While H is the raw identity its step has the gradient's units, not x's, so
   // the first trial step is capped and the first update rescales H (N&W 6.20).
@@ -366,7 +373,7 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
     }
 
     const s = accepted.x.map((v, i) => v - x[i]);
-    const next = numericalGradient(obj, accepted.x, accepted.f);
+    const next = numericalGradient(obj, accepted.x, accepted.f, gStep);
     if (obj.starved) return obj.result(false, BUDGET);
     const y = next.g.map((v, i) => v - g[i]);
     const ys = dot(y, s);

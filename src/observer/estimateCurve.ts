@@ -16,6 +16,11 @@ import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
 /** Grid step in v (noise sds). */
 export const CURVE_STEP = Number(process.env.LP_CURVE_STEP ?? 0.5);
 
+/** How far beyond the prior's support a motor-aware observer's convolved posterior reaches (9 motor sds). */
+export function motorReach(obs: Observer): number {
+  return obs.motorAware ? 9 * obs.motorSd : 0;
+}
+
 /** Pointwise Bayes estimate at measurement m (used by the curve and by the sampler). */
 export function estimateAt(obs: Observer, post: GridPosterior, m: number, hint: number): number {
   post.setMeasurement(m);
@@ -34,7 +39,7 @@ export class EstimateCurve {
 
   constructor(readonly obs: Observer, readonly noise: SensoryNoise, xLo: number, xHi: number) {
     const range = measurementRange(noise, xLo, xHi);
-    const { grid, warpM } = buildPosteriorGrid(obs.prior, noise, range);
+    const { grid, warpM } = buildPosteriorGrid(obs.prior, noise, range, motorReach(obs));
     this.post = grid;
     this.warpM = warpM;
     const h = CURVE_STEP;

@@ -36,7 +36,16 @@ export function measurementRange(noise: SensoryNoise, xLo: number, xHi: number):
   return { lo: Math.min(a - LIKELIHOOD_MARGIN * sa, b - LIKELIHOOD_MARGIN * sb), hi: Math.max(a + LIKELIHOOD_MARGIN * sa, b + LIKELIHOOD_MARGIN * sb) };
 }
 
-export function buildPosteriorGrid(prior: Distribution, noise: SensoryNoise, range: MeasurementRange): { grid: GridPosterior; warpX: Warp; warpM: Warp } {
+/**
+ * `motorReach` (in stimulus units; 0 unless the observer is motor-aware) widens
+ * the grid beyond finite support ends, where the motor-convolved posterior lives too.
+ */
+export function buildPosteriorGrid(
+  prior: Distribution,
+  noise: SensoryNoise,
+  range: MeasurementRange,
+  motorReach = 0,
+): { grid: GridPosterior; warpX: Warp; warpM: Warp } {
   const ctx = warpContext(prior);
   const warpX = noise.stimulusWarp(ctx);
   const warpM = noise.measurementWarp(ctx);
@@ -59,6 +68,6 @@ export function buildPosteriorGrid(prior: Distribution, noise: SensoryNoise, ran
   const u0 = warpX.toU(x0);
   const featureU = prior.featureScale() / warpX.dxdu(Number.isFinite(u0) ? u0 : 0);
   const width = PANEL_WIDTH * Math.min(1, Number.isFinite(featureU) && featureU > 0 ? featureU : 1);
-  const grid = new GridPosterior({ prior, noise, warp: warpX, uLo, uHi, panelWidth: width });
+  const grid = new GridPosterior({ prior, noise, warp: warpX, uLo, uHi, panelWidth: width, extendX: motorReach });
   return { grid, warpX, warpM };
 }

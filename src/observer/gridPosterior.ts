@@ -32,6 +32,12 @@ export interface GridSetup {
   uLo: number;
   uHi: number;
   panelWidth: number;
+  /**
+   * Reach, in x, beyond a finite support end that the grid must also cover:
+   * the distribution of x − η that a motor-aware observer weighs
+   * (convolveGaussian) is not confined to the prior's support. 0 by default.
+   */
+  extendX?: number;
 }
 
 export class GridPosterior {
@@ -84,9 +90,20 @@ export class GridPosterior {
     const sLo = Number.isFinite(prior.support[0]) ? warp.toU(prior.support[0]) : -Infinity;
     const sHi = Number.isFinite(prior.support[1]) ? warp.toU(prior.support[1]) : Infinity;
     this.supportU = [sLo, sHi];
-    const lo = Math.max(setup.uLo, sLo);
-    const hi = Math.min(setup.uHi, sHi);
+    let lo = Math.max(setup.uLo, sLo);
+    let hi = Math.min(setup.uHi, sHi);
     if (!(hi > lo)) throw new RangeError('the measurements lie entirely outside the prior support');
+    // Nodes may sit in [eLo, eHi]: the support, widened by extendX at finite ends
+    // (where the warp allows it; the prior density is 0 out there).
+    const ext = setup.extendX ?? 0;
+    const widen = (end: number, dir: number): number => {
+      const u = warp.toU(end + dir * ext);
+      return Number.isFinite(u) ? u : warp.toU(end);
+    };
+    const eLo = ext > 0 && Number.isFinite(sLo) ? widen(prior.support[0], -1) : sLo;
+    const eHi = ext > 0 && Number.isFinite(sHi) ? widen(prior.support[1], 1) : sHi;
+    if (lo <= sLo) lo = eLo;
+    if (hi >= sHi) hi = eHi;
     const W = setup.panelWidth;
     this.uniformWidth = W;
     // Anchor panels at a finite support end when there is one, else at u = 0.
@@ -97,13 +114,20 @@ export class GridPosterior {
     const starts: number[] = [];
     const halves: number[] = [];
     for (let p = pFirst; p <= pLast; p++) {
-      let a = anchor + p * W;
-      let b = a + W;
-      if (a < sLo) a = sLo;
-      if (b > sHi) b = sHi;
-      if (b <= a) continue;
-      starts.push(a);
-      halves.push(0.5 * (b - a));
+      const a0 = anchor + p * W;
+      const b0 = a0 + W;
+      // Panels break at finite support ends (the density jumps or kinks there).
+      const cuts = [a0];
+      if (sLo > a0 && sLo < b0) cuts.push(sLo);
+      if (sHi > a0 && sHi < b0) cuts.push(sHi);
+      cuts.push(b0);
+      for (let q = 0; q + 1 < cuts.length; q++) {
+        const a = Math.max(cuts[q], eLo);
+        const b = Math.min(cuts[q + 1], eHi);
+        if (b <= a) continue;
+        starts.push(a);
+        halves.push(0.5 * (b - a));
+      }
     }
     this.nPanels = starts.length;
     const n = NODES_PER_PANEL;

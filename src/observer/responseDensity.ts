@@ -144,34 +144,50 @@ export class ConditionResponse {
       }
       this.evalNode(i);
       this.evalNode(i + 1);
-      let n = Math.ceil((segHi - segLo) / (SUBSTEP * sm));
-      if (n > MAX_SUB) n = MAX_SUB;
-      if (n <= 1) {
+      // Sub-steps so that x̂ moves less than SUBSTEP·σ_m between points. The
+      // count is blended between ⌊q⌋ and ⌊q⌋+1 with a smooth weight, so the
+      // integral has no steps as parameters move the count across an integer.
+      const q = (segHi - segLo) / (SUBSTEP * sm);
+      if (q <= 1) {
         // Trapezoid with its Euler–Maclaurin end correction; corrections of equal
         // neighbouring steps cancel, so the composite rule keeps its accuracy.
         total += 0.5 * h * (gVal[i] + gVal[i + 1]) - ((h * h) / 12) * (gDer[i + 1] - gDer[i]);
         continue;
       }
-      const d = h / n;
-      let acc = 0.5 * (gVal[i] + gVal[i + 1]);
-      for (let s = 1; s < n; s++) {
-        const vs = v[i] + s * d;
-        const xs = curve.interpolate(i, vs);
-        const z = (r - xs) * invSm;
-        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
-          if (kernel === 0) continue;
-          if (kernel === 1 ? z < 0 : z > 0) continue;
-        }
-        const zm = (warpM.fromU(vs) - c) * invSd;
-        if (kernel === 0) acc += Math.exp(-0.5 * (zm * zm + z * z)) * warpM.dxdu(vs) * pNorm * invSm * INV_SQRT_2PI;
-        else {
-          const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : normCdf(z)) : z < -KERNEL_CUT ? 1 : normCdf(-z);
-          acc += K * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
-        }
-      }
-      total += d * acc - ((d * d) / 12) * (gDer[i + 1] - gDer[i]);
+      const n0 = Math.min(MAX_SUB, Math.floor(q));
+      const frac = n0 === MAX_SUB ? 0 : q - n0;
+      const w = frac * frac * (3 - 2 * frac);
+      const I0 = this.subdivided(i, n0, h, kernel);
+      total += w > 0 ? (1 - w) * I0 + w * this.subdivided(i, n0 + 1, h, kernel) : I0;
     }
     return total;
+  }
+
+  /** Composite trapezoid over segment i with n sub-steps, with its end correction. */
+  private subdivided(i: number, n: number, h: number, kernel: Kernel): number {
+    const curve = this.curve!;
+    const { v } = curve;
+    const warpM = curve.warpM;
+    const { c, invSd, pNorm, r, invSm } = this.cur;
+    if (n <= 1) return 0.5 * h * (this.gVal[i] + this.gVal[i + 1]) - ((h * h) / 12) * (this.gDer[i + 1] - this.gDer[i]);
+    const d = h / n;
+    let acc = 0.5 * (this.gVal[i] + this.gVal[i + 1]);
+    for (let s = 1; s < n; s++) {
+      const vs = v[i] + s * d;
+      const xs = curve.interpolate(i, vs);
+      const z = (r - xs) * invSm;
+      if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+        if (kernel === 0) continue;
+        if (kernel === 1 ? z < 0 : z > 0) continue;
+      }
+      const zm = (warpM.fromU(vs) - c) * invSd;
+      if (kernel === 0) acc += Math.exp(-0.5 * (zm * zm + z * z)) * warpM.dxdu(vs) * pNorm * invSm * INV_SQRT_2PI;
+      else {
+        const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : normCdf(z)) : z < -KERNEL_CUT ? 1 : normCdf(-z);
+        acc += K * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
+      }
+    }
+    return d * acc - ((d * d) / 12) * (this.gDer[i + 1] - this.gDer[i]);
   }
 
   /** Probability density (interior) or mass (censored end) of response r to stimulus x. */

@@ -8,7 +8,7 @@
 import { drawStandardNormal, type RandomStream } from '../numerics/rng.js';
 import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
 import { buildPosteriorGrid, measurementRange } from './gridFactory.js';
-import { estimateAt } from './estimateCurve.js';
+import { estimateAt, motorReach } from './estimateCurve.js';
 import type { GridPosterior } from './gridPosterior.js';
 import type { Dataset, Observer } from './observer.js';
 
@@ -22,7 +22,7 @@ export function simulateResponses(obs: Observer, stimulus: Float64Array, conditi
     hi = Math.max(hi, stimulus[t]);
   }
   const grids: (GridPosterior | null)[] = obs.noise.map((noise) =>
-    closedFormEstimate(obs, noise) ? null : buildPosteriorGrid(obs.prior, noise, measurementRange(noise, lo, hi)).grid,
+    closedFormEstimate(obs, noise) ? null : buildPosteriorGrid(obs.prior, noise, measurementRange(noise, lo, hi), motorReach(obs)).grid,
   );
   const closed = obs.noise.map((noise) => closedFormEstimate(obs, noise));
   const { scale } = obs;

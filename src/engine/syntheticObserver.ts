@@ -1,0 +1,70 @@
+/**
+ * One synthetic observer: its true parameters and its one trial sequence,
+ * drawn from a stream that depends only on the master seed, the generating
+ * model and the observer index. Datasets at different trial counts are
+ * nested prefixes of that sequence, balanced across conditions in every
+ * block, so a sweep compares like with like.
+ */
+import { streamFromKey, type RandomStream } from '../numerics/rng.js';
+import { createDistribution } from '../observer/distributions/registry.js';
+import { simulateResponses } from '../observer/sampler.js';
+import type { Dataset } from '../observer/observer.js';
+import { observerFromValues, type CandidateModel } from '../fit/candidate.js';
+import type { DrawSpec } from '../scenario/schema.js';
+import type { ResolvedStudy } from './resolve.js';
+
+function draw(spec: DrawSpec, rand: RandomStream): number {
+  const u = rand();
+  if ('fixed' in spec) return spec.fixed;
+  if ('uniform' in spec) return spec.uniform[0] + u * (spec.uniform[1] - spec.uniform[0]);
+  const [a, b] = spec.logUniform;
+  return Math.exp(Math.log(a) + u * (Math.log(b) - Math.log(a)));
+}
+
+export function observerStream(study: ResolvedStudy, generating: string, observer: number): RandomStream {
+  return streamFromKey(`lossprobe/${study.scenario.seed}/gen=${generating}/obs=${observer}`);
+}
+
+/** True parameter values: the model's own values, overridden by the scenario's draws (sorted by name). */
+export function drawTruth(study: ResolvedStudy, model: CandidateModel, rand: RandomStream): Record<string, number> {
+  const values = { ...model.base };
+  const draws = { ...study.scenario.generate.parameters, ...(study.scenario.generate.perModel[model.name] ?? {}) };
+  for (const name of Object.keys(draws).sort()) {
+    // Every listed draw consumes one uniform, whether or not the model has the parameter.
+    const v = draw(draws[name], rand);
+    if (name in values) values[name] = v;
+  }
+  return values;
+}
+
+export function syntheticDataset(study: ResolvedStudy, generating: string, observer: number): { truth: Record<string, number>; full: Dataset } {
+  const model = study.candidates.find((c) => c.name === generating)!;
+  const rand = observerStream(study, generating, observer);
+  const truth = drawTruth(study, model, rand);
+  const s = study.scenario;
+  const maxT = study.trialCounts[study.trialCounts.length - 1];
+  const nCond = s.conditions.length;
+  const stimulusDist = createDistribution(s.stimulus ?? s.prior);
+  const stimulus = new Float64Array(maxT);
+  const condition = new Int32Array(maxT);
+  const block: number[] = [];
+  for (let t = 0; t < maxT; t++) {
+    if (t % nCond === 0) {
+      // A fresh random order of the conditions for every block.
+      block.length = 0;
+      for (let c = 0; c < nCond; c++) block.push(c);
+      for (let i = nCond - 1; i > 0; i--) {
+        const j = Math.floor(rand() * (i + 1));
+        [block[i], block[j]] = [block[j], block[i]];
+      }
+    }
+    condition[t] = block[t % nCond];
+    stimulus[t] = stimulusDist.sample(rand);
+  }
+  const full = simulateResponses(observerFromValues(model, truth), stimulus, condition, rand);
+  return { truth, full };
+}
+
+export function prefix(data: Dataset, n: number): Dataset {
+  return { stimulus: data.stimulus.slice(0, n), condition: data.condition.slice(0, n), response: data.response.slice(0, n) };
+}

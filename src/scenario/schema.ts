@@ -1,0 +1,80 @@
+/**
+ * The scenario schema: one source of truth for the types of a study and for
+ * the messages users see when a file is wrong. A scenario describes the
+ * observer side (prior, conditions, response stage), the candidate models,
+ * and, for recovery studies, the design (stimuli, trials), which models
+ * generate synthetic observers and how their parameters are drawn, the
+ * fitting settings and the seed.
+ */
+import { z } from 'zod';
+import { distributionSchema } from '../observer/distributions/registry.js';
+import { conditionSchema, modelSchema as previewModelSchema, responseSchema } from './previewSchema.js';
+
+const pair = z.tuple([z.number(), z.number()]).refine((p) => p[1] >= p[0], { message: 'the second number must be at least the first' });
+
+export const drawSchema = z.union([
+  z.strictObject({ fixed: z.number() }),
+  z.strictObject({ uniform: pair.describe('[lower, upper]') }),
+  z.strictObject({ logUniform: pair.refine((p) => p[0] > 0, { message: 'log-uniform bounds must be positive' }).describe('[lower, upper], both > 0') }),
+]);
+export type DrawSpec = z.infer<typeof drawSchema>;
+
+export const modelSchema = previewModelSchema.extend({
+  free: z.array(z.string()).optional().describe('names of free parameters (default: loss parameters, every noise parameter, motorSd, lapseRate)'),
+  bounds: z.record(z.string(), z.strictObject({ lower: z.number(), upper: z.number() })).optional(),
+});
+
+const trialsSchema = z.union([z.number().int().min(10), z.array(z.number().int().min(10)).min(1)]);
+
+export const scenarioSchema = z
+  .strictObject({
+    name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only').default('study'),
+    description: z.string().optional(),
+    seed: z.number().int().nonnegative().default(1),
+    prior: distributionSchema.describe("the observer's prior"),
+    stimulus: distributionSchema.optional().describe('stimulus distribution (default: the prior)'),
+    conditions: z.array(conditionSchema).min(1, 'at least one condition is needed'),
+    response: responseSchema,
+    models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
+    measurements: z.array(z.number()).optional(),
+    trials: trialsSchema.default(240).describe('trials per observer, split evenly across conditions; a list runs a sweep'),
+    generate: z
+      .strictObject({
+        models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
+        observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
+        parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
+        perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
+      })
+      .prefault({}),
+    fitting: z
+      .strictObject({
+        criterion: z.enum(['aic', 'aicc', 'bic', 'cv']).default('bic'),
+        margin: z.number().nonnegative().default(0).describe('criterion difference below which a dataset is undecided'),
+        starts: z.number().int().min(1).max(50).default(4),
+        evaluationsPerStart: z.number().int().min(20).optional(),
+        folds: z.number().int().min(2).max(20).default(5).describe('folds for the cv criterion'),
+      })
+      .prefault({}),
+  })
+  .superRefine((s, ctx) => {
+    const names = s.models.map((m) => m.name);
+    const seen = new Set<string>();
+    names.forEach((n, i) => {
+      if (seen.has(n)) ctx.addIssue({ code: 'custom', message: `model name '${n}' is used twice`, path: ['models', i, 'name'] });
+      seen.add(n);
+    });
+    (s.generate.models ?? []).forEach((g, i) => {
+      if (!names.includes(g)) ctx.addIssue({ code: 'custom', message: `'${g}' is not one of the models (${names.join(', ')})`, path: ['generate', 'models', i] });
+    });
+    for (const m of Object.keys(s.generate.perModel)) {
+      if (!names.includes(m)) ctx.addIssue({ code: 'custom', message: `'${m}' is not one of the models (${names.join(', ')})`, path: ['generate', 'perModel', m] });
+    }
+    const cond = new Set<string>();
+    s.conditions.forEach((c, i) => {
+      if (cond.has(c.name)) ctx.addIssue({ code: 'custom', message: `condition name '${c.name}' is used twice`, path: ['conditions', i, 'name'] });
+      cond.add(c.name);
+    });
+  });
+
+export type Scenario = z.infer<typeof scenarioSchema>;
+export type ScenarioModel = z.infer<typeof modelSchema>;
