@@ -4,6 +4,7 @@ import { Command } from 'commander';
 import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
+import { runCommand } from './run.js';
 
 const require = createRequire(import.meta.url);
 const { version } = require('../../package.json') as { version: string };
@@ -28,6 +29,19 @@ async function main(argv: string[]): Promise<void> {
     .option('--motor-sd <sd>', 'motor noise sd')
     .option('--out <folder>', 'output folder (default results/<name>-preview)')
     .action(async (file: string | undefined, opts) => printPreview(await runPreview(file, opts)));
+  program
+    .command('run')
+    .description('recovery study: simulate synthetic observers, refit every candidate, report how often the truth comes back')
+    .argument('<scenario>', 'scenario file (YAML or JSON)')
+    .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
+    .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--workers <w>', 'worker threads (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>)')
+    .option('--resume', 'continue a run that was interrupted')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => runCommand(file, opts, version));
   await program.parseAsync(argv);
 }
 

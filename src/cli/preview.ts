@@ -5,7 +5,7 @@
  */
 import Table from 'cli-table3';
 import { join } from 'node:path';
-import { previewScenarioSchema, type PreviewScenario } from '../scenario/previewSchema.js';
+import { scenarioSchema, type Scenario } from '../scenario/schema.js';
 import { readStructuredFile, validate } from '../scenario/load.js';
 import { observerFor } from '../scenario/buildObserver.js';
 import { buildPosteriorGrid, measurementRange } from '../observer/gridFactory.js';
@@ -55,7 +55,7 @@ function scenarioFromFlags(o: PreviewOptions): unknown {
 }
 
 export interface PreviewResult {
-  scenario: PreviewScenario;
+  scenario: Scenario;
   measurements: number[];
   /** estimates[condition][model][measurement] */
   estimates: number[][][];
@@ -71,7 +71,7 @@ function pretty(x: number): string {
 export async function runPreview(file: string | undefined, o: PreviewOptions): Promise<PreviewResult> {
   const source = file ?? 'command line';
   const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
-  const s = validate(previewScenarioSchema, raw, source);
+  const s = validate(scenarioSchema, raw, source);
   const observers = s.models.map((m) => observerFor(s, m.loss, source));
   const prior = observers[0].prior;
   const lo = prior.quantile(0.02);

@@ -22,19 +22,14 @@ export function parseJobKey(key: string): JobSpec {
   return { key, generating: m[1], observer: Number(m[2]), trials: Number(m[3]) };
 }
 
-/** Tuple order: generating model by name, then observer and trials as numbers. */
-export function compareKeys(a: string, b: string): number {
-  const x = parseJobKey(a);
-  const y = parseJobKey(b);
-  if (x.generating !== y.generating) return x.generating < y.generating ? -1 : 1;
-  if (x.observer !== y.observer) return x.observer - y.observer;
-  return x.trials - y.trials;
-}
+/** Tuple order with numbers compared as numbers: the one ordering used everywhere. */
+export { compareJobKeys as compareKeys } from '../analysis/jobKeys.js';
+import { compareJobKeys } from '../analysis/jobKeys.js';
 
 export function planJobs(study: ResolvedStudy): JobSpec[] {
   const jobs: JobSpec[] = [];
   for (const g of study.generating)
     for (let o = 0; o < study.scenario.generate.observers; o++)
       for (const t of study.trialCounts) jobs.push({ key: jobKey(g, o, t), generating: g, observer: o, trials: t });
-  return jobs.sort((a, b) => compareKeys(a.key, b.key));
+  return jobs.sort((a, b) => compareJobKeys(a.key, b.key));
 }

@@ -111,9 +111,29 @@ function failedFit(model: CandidateModel, data: Dataset, reason: string, starts:
   };
 }
 
+/**
+ * Why the dataset cannot be fitted with this model, or null. The likelihood
+ * floors every trial at 1e-300, so a NaN response would otherwise be scored as
+ * a finite (and meaningless) −690.8 and the fit reported as 'ok'.
+ */
+function datasetProblem(model: CandidateModel, data: Dataset): string | null {
+  const n = data.stimulus.length;
+  if (data.condition.length !== n || data.response.length !== n)
+    return `dataset arrays differ in length (stimulus ${n}, condition ${data.condition.length}, response ${data.response.length})`;
+  for (let t = 0; t < n; t++) {
+    const c = data.condition[t];
+    if (!(c >= 0 && c < model.noise.length)) return `trial ${t}: condition ${c} is not one of the model's ${model.noise.length} condition(s)`;
+    if (!Number.isFinite(data.stimulus[t])) return `trial ${t}: stimulus is not a finite number (${data.stimulus[t]})`;
+    if (!Number.isFinite(data.response[t])) return `trial ${t}: response is not a finite number (${data.response[t]})`;
+  }
+  return null;
+}
+
 export function fitModel(model: CandidateModel, data: Dataset, options: FitOptions = {}): FitResult {
   const k = model.free.length;
   const n = data.stimulus.length;
+  const problem = datasetProblem(model, data);
+  if (problem) return failedFit(model, data, problem, [], 0);
   const nStarts = options.starts ?? 4;
   const budget = options.evaluationsPerStart ?? 150 + 60 * k;
   const failures: string[] = [];

@@ -19,11 +19,13 @@ const logit = (p: number) => Math.log(p / (1 - p));
 
 export function toParameter(b: Bounded, z: number): number {
   const s = sigmoid(z);
+  let theta: number;
   if (b.transform === 'log') {
     const a = Math.log(b.lower);
-    return Math.exp(a + (Math.log(b.upper) - a) * s);
-  }
-  return b.lower + (b.upper - b.lower) * s;
+    theta = Math.exp(a + (Math.log(b.upper) - a) * s);
+  } else theta = b.lower + (b.upper - b.lower) * s;
+  // exp(log hi) and lo + (hi − lo) can round a few ulps past a bound at saturated z.
+  return Math.min(b.upper, Math.max(b.lower, theta));
 }
 
 export function toFree(b: Bounded, theta: number): number {

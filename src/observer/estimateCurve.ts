@@ -173,6 +173,20 @@ export class EstimateCurve {
   interpolate(i: number, v: number): number {
     return hermite(this.v, this.xh, this.slope, i, v);
   }
+
+  /** Derivative dx̂/dv of the interpolant on segment i at v. */
+  derivative(i: number, v: number): number {
+    return hermiteDerivative(this.v, this.xh, this.slope, i, v);
+  }
+}
+
+export function hermiteDerivative(vArr: Float64Array, xh: Float64Array, slope: Float64Array, i: number, v: number): number {
+  const v0 = vArr[i];
+  const h = vArr[i + 1] - v0;
+  if (h <= 0) return slope[i];
+  const t = (v - v0) / h;
+  const t2 = t * t;
+  return ((6 * t2 - 6 * t) * xh[i] + (-6 * t2 + 6 * t) * xh[i + 1]) / h + (3 * t2 - 4 * t + 1) * slope[i] + (3 * t2 - 2 * t) * slope[i + 1];
 }
 
 /** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
@@ -181,7 +195,7 @@ const MAX_REFINE_ROUNDS = 14;
 /** At the finest width, a miss this many tolerances wide is a jump, not noise. */
 const JUMP_FACTOR = 100;
 
-function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Array, i: number, v: number): number {
+export function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Array, i: number, v: number): number {
   const v0 = vArr[i];
   const h = vArr[i + 1] - v0;
   if (h <= 0) return xh[i];

@@ -45,7 +45,7 @@ export function buildPosteriorGrid(
   noise: SensoryNoise,
   range: MeasurementRange,
   motorReach = 0,
-): { grid: GridPosterior; warpX: Warp; warpM: Warp } {
+): { grid: GridPosterior; warpX: Warp; warpM: Warp; featureU: number } {
   const ctx = warpContext(prior);
   const warpX = noise.stimulusWarp(ctx);
   const warpM = noise.measurementWarp(ctx);
@@ -69,5 +69,5 @@ export function buildPosteriorGrid(
   const featureU = prior.featureScale() / warpX.dxdu(Number.isFinite(u0) ? u0 : 0);
   const width = PANEL_WIDTH * Math.min(1, Number.isFinite(featureU) && featureU > 0 ? featureU : 1);
   const grid = new GridPosterior({ prior, noise, warp: warpX, uLo, uHi, panelWidth: width, extendX: motorReach });
-  return { grid, warpX, warpM };
+  return { grid, warpX, warpM, featureU: Number.isFinite(featureU) && featureU > 0 ? featureU : 1 };
 }

@@ -14,7 +14,7 @@
  */
 import { normCdf } from '../numerics/special.js';
 import { closedFormEstimate, evaluateClosedForm, type ClosedFormEstimate } from './closedForm.js';
-import { EstimateCurve } from './estimateCurve.js';
+import { EstimateCurve, hermite, hermiteDerivative } from './estimateCurve.js';
 import type { Dataset, Observer } from './observer.js';
 import type { SensoryNoise } from './noise/types.js';
 
@@ -31,6 +31,11 @@ type Kernel = 0 | 1 | 2; // 0: density at r, 1: P(response ≤ r), 2: P(response
 export class ConditionResponse {
   readonly curve: EstimateCurve | null;
   readonly closed: ClosedFormEstimate | null;
+  /** Integration grid: uniform half-sd steps merged with every curve node. */
+  private readonly v: Float64Array;
+  private readonly xh: Float64Array;
+  private readonly slope: Float64Array;
+  private readonly breakAfter: Uint8Array;
   private readonly nodeM: Float64Array;
   private readonly nodeJ: Float64Array;
   private readonly nodeCurv: Float64Array;
@@ -44,7 +49,12 @@ export class ConditionResponse {
   constructor(readonly obs: Observer, readonly noise: SensoryNoise, xLo: number, xHi: number) {
     this.closed = closedFormEstimate(obs, noise);
     this.curve = this.closed && this.closed.kind === 'linear' ? null : new EstimateCurve(obs, noise, xLo, xHi);
-    const n = this.curve ? this.curve.v.length : 0;
+    const grid = this.curve ? integrationGrid(this.curve) : { v: new Float64Array(0), xh: new Float64Array(0), slope: new Float64Array(0), breakAfter: new Uint8Array(0) };
+    this.v = grid.v;
+    this.xh = grid.xh;
+    this.slope = grid.slope;
+    this.breakAfter = grid.breakAfter;
+    const n = this.v.length;
     this.nodeM = new Float64Array(n);
     this.nodeJ = new Float64Array(n);
     this.nodeCurv = new Float64Array(n);
@@ -56,7 +66,7 @@ export class ConditionResponse {
     if (this.curve) {
       const w = this.curve.warpM;
       for (let k = 0; k < n; k++) {
-        const vk = this.curve.v[k];
+        const vk = this.v[k];
         this.nodeM[k] = w.fromU(vk);
         this.nodeJ[k] = w.dxdu(vk);
         this.nodeCurv[k] = w.curvature(vk);
@@ -74,9 +84,8 @@ export class ConditionResponse {
     const J = this.nodeJ[k];
     const zm = (this.nodeM[k] - c) * invSd;
     const dlogp = -zm * J * invSd + this.nodeCurv[k];
-    const curve = this.curve!;
-    const z = (r - curve.xh[k]) * invSm;
-    const sl = curve.slope[k];
+    const z = (r - this.xh[k]) * invSm;
+    const sl = this.slope[k];
     if (kernel === 0) {
       if (z > KERNEL_CUT || z < -KERNEL_CUT) {
         this.gVal[k] = 0;
@@ -111,12 +120,13 @@ export class ConditionResponse {
       return kernel === 1 ? normCdf(z) : normCdf(-z);
     }
     const curve = this.curve!;
-    const { v, xh, slope, breakAfter, warpM } = curve;
+    const { v, xh, slope, breakAfter } = this;
+    const warpM = curve.warpM;
     const { gVal, gDer, pVal, pDer } = this;
     const c = this.noise.center(x);
     const sd = this.noise.sdAt(x);
-    const i0 = curve.segmentOf(warpM.toU(c - WINDOW * sd));
-    const i1 = curve.segmentOf(warpM.toU(c + WINDOW * sd));
+    const i0 = segmentIn(v, warpM.toU(c - WINDOW * sd));
+    const i1 = segmentIn(v, warpM.toU(c + WINDOW * sd));
     const reach = KERNEL_CUT * sm;
     const invSm = 1 / sm;
     const invSd = 1 / sd;
@@ -165,16 +175,15 @@ export class ConditionResponse {
 
   /** Composite trapezoid over segment i with n sub-steps, with its end correction. */
   private subdivided(i: number, n: number, h: number, kernel: Kernel): number {
-    const curve = this.curve!;
-    const { v } = curve;
-    const warpM = curve.warpM;
+    const { v } = this;
+    const warpM = this.curve!.warpM;
     const { c, invSd, pNorm, r, invSm } = this.cur;
     if (n <= 1) return 0.5 * h * (this.gVal[i] + this.gVal[i + 1]) - ((h * h) / 12) * (this.gDer[i + 1] - this.gDer[i]);
     const d = h / n;
     let acc = 0.5 * (this.gVal[i] + this.gVal[i + 1]);
     for (let s = 1; s < n; s++) {
       const vs = v[i] + s * d;
-      const xs = curve.interpolate(i, vs);
+      const xs = hermite(v, this.xh, this.slope, i, vs);
       const z = (r - xs) * invSm;
       if (z > KERNEL_CUT || z < -KERNEL_CUT) {
         if (kernel === 0) continue;
@@ -214,6 +223,56 @@ export class ConditionResponse {
     const lapse = r <= scale.lower ? 0 : r >= scale.upper ? 1 : (r - scale.lower) / range;
     return (1 - lam) * this.integrate(x, r, 1) + lam * lapse;
   }
+}
+
+/** Integration step in warped measurement units (noise sds): spectrally accurate for p(m | x). */
+const INTEGRATION_STEP = 0.5;
+
+/** Index i with v[i] ≤ t < v[i+1], clamped, by bisection. */
+function segmentIn(v: Float64Array, t: number): number {
+  let lo = 0;
+  let hi = v.length - 2;
+  if (t <= v[0]) return 0;
+  if (t >= v[hi]) return hi;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (v[mid] <= t) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
+}
+
+/**
+ * Merge a uniform grid (anchored at v = 0, so it moves continuously with the
+ * noise parameters) with every node of the estimate curve. Between merged
+ * nodes the cubic Hermite pieces reproduce the curve exactly, since values and
+ * derivatives come from the curve itself; jumps stay as breaks.
+ */
+function integrationGrid(curve: EstimateCurve): { v: Float64Array; xh: Float64Array; slope: Float64Array; breakAfter: Uint8Array } {
+  const cv = curve.v;
+  const n = cv.length;
+  const vs: number[] = [];
+  const xs: number[] = [];
+  const ss: number[] = [];
+  const bs: number[] = [];
+  for (let i = 0; i < n; i++) {
+    vs.push(cv[i]);
+    xs.push(curve.xh[i]);
+    ss.push(curve.slope[i]);
+    bs.push(curve.breakAfter[i]);
+    if (i === n - 1 || curve.breakAfter[i]) continue;
+    const a = cv[i];
+    const b = cv[i + 1];
+    for (let k = Math.floor(a / INTEGRATION_STEP) + 1; k * INTEGRATION_STEP < b; k++) {
+      const u = k * INTEGRATION_STEP;
+      if (u - a < 1e-9 || b - u < 1e-9) continue;
+      vs.push(u);
+      xs.push(curve.interpolate(i, u));
+      ss.push(curve.derivative(i, u));
+      bs.push(0);
+    }
+  }
+  return { v: Float64Array.from(vs), xh: Float64Array.from(xs), slope: Float64Array.from(ss), breakAfter: Uint8Array.from(bs) };
 }
 
 /** Per-condition response models covering the stimuli of a dataset. */

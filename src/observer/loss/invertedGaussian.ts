@@ -33,8 +33,10 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     // The 20 Hermite nodes reach ±7.6ε. Where that crosses a finite support end the
     // density jumps (uniform) or bends to 0 (gamma) there, which Gauss–Hermite cannot
     // integrate; use Gauss–Legendre on the part of [c − 8ε, c + 8ε] inside the support.
-    const sLo = post.warp.fromU(post.supportU[0]);
-    const sHi = post.warp.fromU(post.supportU[1]);
+    // After a motor-noise convolution the density is smooth at the support ends and
+    // reaches past them (onto the widened grid): its only edges are the window's.
+    const sLo = post.warp.fromU(post.exactAvailable ? post.supportU[0] : post.panelStart[post.firstPanel]);
+    const sHi = post.warp.fromU(post.exactAvailable ? post.supportU[1] : post.panelStart[post.lastPanel] + 2 * post.panelHalf[post.lastPanel]);
     const reach = 8 * width;
     if (c - reach < sLo || c + reach > sHi) {
       const lo = Math.max(sLo, c - reach);

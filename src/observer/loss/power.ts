@@ -113,19 +113,33 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
 
 function nonConvexEstimate(post: GridPosterior, p: number): number {
   const h = (c: number) => kinkedExpectation(post, c, p, false);
-  let bestJ = post.first;
-  let best = Infinity;
   const stride = 3;
+  const js: number[] = [];
+  const vs: number[] = [];
   for (let j = post.first; j <= post.last; j += stride) {
-    const v = h(post.x[j]);
-    if (v < best) {
-      best = v;
-      bestJ = j;
+    js.push(j);
+    vs.push(h(post.x[j]));
+  }
+  // Refine every local minimum of the scan that comes close to the lowest: near
+  // a switch between posterior modes two of them are nearly equal, and only
+  // their refined values tell which is the global minimum.
+  const minima: number[] = [];
+  for (let k = 0; k < vs.length; k++) if ((k === 0 || vs[k] <= vs[k - 1]) && (k === vs.length - 1 || vs[k] <= vs[k + 1])) minima.push(k);
+  minima.sort((u, w) => vs[u] - vs[w]);
+  let bestX = post.x[js[minima[0]]];
+  let best = Infinity;
+  for (let q = 0; q < Math.min(3, minima.length); q++) {
+    const k = minima[q];
+    if (q > 0 && vs[k] > vs[minima[0]] + 1e-3 * Math.abs(vs[minima[0]])) break;
+    const a = post.x[Math.max(post.first, js[k] - stride)];
+    const b = post.x[Math.min(post.last, js[k] + stride)];
+    const r = brentMinimize(h, a, b, 1e-11);
+    if (r.value < best) {
+      best = r.value;
+      bestX = r.x;
     }
   }
-  const a = post.x[Math.max(post.first, bestJ - stride)];
-  const b = post.x[Math.min(post.last, bestJ + stride)];
-  return brentMinimize(h, a, b, 1e-11).x;
+  return bestX;
 }
 
 export function powerLoss(exponent: number): LossFunction {

@@ -1,0 +1,111 @@
+/**
+ * `lossprobe run SCENARIO`: a recovery study. Simulates synthetic observers
+ * for every generating model, refits every candidate on a worker pool, and
+ * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
+ */
+import Table from 'cli-table3';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { hostname } from 'node:os';
+import { join } from 'node:path';
+import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
+import { runStudy } from '../engine/runStudy.js';
+import { confusionCsv, fitsCsv, inversionCsv, parametersCsv, studySummary, type StudySummary } from '../report/studyOutputs.js';
+import { UserError } from './userError.js';
+
+export interface RunFlags {
+  observers?: string;
+  trials?: string;
+  seed?: string;
+  workers?: string;
+  out?: string;
+  resume?: boolean;
+  json?: boolean;
+  quiet?: boolean;
+}
+
+function positiveInt(flag: string, v: string | undefined): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < 1) throw new UserError(`--${flag} expects a whole number ≥ 1 (got '${v}')`);
+  return n;
+}
+
+export function parseTrials(v: string | undefined): number[] | undefined {
+  if (v === undefined) return undefined;
+  const range = /^(\d+):(\d+):(\d+)$/.exec(v);
+  const list = range
+    ? Array.from({ length: Math.floor((Number(range[2]) - Number(range[1])) / Number(range[3])) + 1 }, (_, i) => Number(range[1]) + i * Number(range[3]))
+    : v.split(',').map((s) => Number(s.trim()));
+  if (!list.length || list.some((n) => !Number.isInteger(n) || n < 10)) throw new UserError(`--trials expects whole numbers ≥ 10, as a list (60,120,240) or a range start:end:step (got '${v}')`);
+  return list;
+}
+
+export function studyFromFlags(file: string, f: RunFlags): ResolvedStudy {
+  const seed = f.seed === undefined ? undefined : Number(f.seed);
+  if (seed !== undefined && (!Number.isInteger(seed) || seed < 0)) throw new UserError(`--seed expects a whole number ≥ 0 (got '${f.seed}')`);
+  return loadStudy(file, { observers: positiveInt('observers', f.observers), trials: parseTrials(f.trials), seed });
+}
+
+/** Prepare (or reopen for --resume) a run folder; refuse to mix studies. */
+export function openRunFolder(folder: string, study: ResolvedStudy, resume: boolean): void {
+  const scenarioPath = join(folder, 'scenario.json');
+  if (existsSync(join(folder, 'jobs.jsonl'))) {
+    if (!resume) throw new UserError(`${folder} already holds a run; add --resume to continue it, or choose another folder with --out`);
+    const prior = existsSync(scenarioPath) ? (JSON.parse(readFileSync(scenarioPath, 'utf8')) as { hash?: string }) : {};
+    if (prior.hash !== study.hash)
+      throw new UserError(`${folder} holds a run of a different scenario or settings (scenario hash differs); resume it with the same file and flags, or use another --out`);
+    return;
+  }
+  mkdirSync(folder, { recursive: true });
+  writeFileSync(scenarioPath, JSON.stringify({ hash: study.hash, scenario: study.scenario }, null, 2) + '\n');
+}
+
+export function writeStudyOutputs(folder: string, summary: StudySummary, lines: Parameters<typeof fitsCsv>[0]): void {
+  writeFileSync(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
+  writeFileSync(join(folder, 'fits.csv'), fitsCsv(lines));
+  writeFileSync(join(folder, 'parameters.csv'), parametersCsv(lines));
+  writeFileSync(join(folder, 'confusion.csv'), confusionCsv(summary));
+  writeFileSync(join(folder, 'inversion.csv'), inversionCsv(summary));
+}
+
+const pct = (x: number | null | undefined) => (x === null || x === undefined ? '–' : `${Math.round(100 * x)}%`);
+
+export function printStudy(summary: StudySummary, folder: string): void {
+  const s = summary.overall;
+  const c = s.confusion;
+  console.log(`\nRecovery study '${summary.name}' (seed ${summary.seed}, ${s.jobs} datasets, criterion ${summary.criterion.toUpperCase()})`);
+  console.log('Rows: generating model. Columns: model chosen (share of that row\'s datasets).');
+  const table = new Table({
+    head: ['generating ↓ / chosen →', ...c.columns, 'undecided', 'failed fit'],
+    style: { head: [], border: [] },
+    chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' },
+  });
+  c.rows.forEach((r, i) => table.push([`${r} (n=${c.n[i]})`, ...c.columns.map((_, j) => pct(c.rate[i][j])), pct(c.undecidedRate[i]), pct(c.failedRate[i])]));
+  console.log(table.toString());
+  const a = s.accuracy;
+  console.log(`Overall: generating model chosen in ${pct(a.estimate)} of datasets [95% interval ${pct(a.lower)}–${pct(a.upper)}]; chance ${pct(s.chance)}.`);
+  for (const v of s.verdicts) console.log(`  ${v.text}`);
+  console.log('\nA simulation holds only under its assumptions; it complements, not replaces, a pilot study and the advice of your ethics board and statistician.');
+  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
+}
+
+export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
+  const study = studyFromFlags(file, flags);
+  const folder = flags.out ?? join('results', study.scenario.name);
+  openRunFolder(folder, study, flags.resume ?? false);
+  const started = Date.now();
+  const workers = positiveInt('workers', flags.workers);
+  const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });
+  if (outcome.interrupted) {
+    process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished jobs are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);
+    process.exit(130);
+  }
+  const summary = studySummary(study, outcome.lines, toolVersion);
+  writeStudyOutputs(folder, summary, outcome.lines);
+  writeFileSync(
+    join(folder, 'run-info.json'),
+    JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
+  );
+  if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
+  else printStudy(summary, folder);
+}
