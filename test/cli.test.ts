@@ -24,7 +24,8 @@ describe('lossprobe preview', () => {
     expect(svg).toContain('<path');
     const csv = readFileSync(join(out, 'estimates.csv'), 'utf8').trim().split('\n');
     expect(csv[0]).toBe('condition,model,measurement,estimate');
-    expect(csv.length).toBe(1 + 2 * 5 * 121);
+    // one condition × three models × 121 measurements
+    expect(csv.length).toBe(1 + 1 * 3 * 121);
   });
 
   it('says plainly that symmetric losses coincide on the gaussian control', () => {

@@ -39,6 +39,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--workers <w>', 'worker threads (default: all cores)')
     .option('--out <folder>', 'run folder (default results/<name>)')
     .option('--resume', 'continue a run that was interrupted')
+    .option('--overwrite', 'replace an existing run folder')
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => runCommand(file, opts, version));

@@ -4,7 +4,7 @@
  * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
  */
 import Table from 'cli-table3';
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
@@ -19,6 +19,7 @@ export interface RunFlags {
   workers?: string;
   out?: string;
   resume?: boolean;
+  overwrite?: boolean;
   json?: boolean;
   quiet?: boolean;
 }
@@ -92,6 +93,8 @@ export function printStudy(summary: StudySummary, folder: string): void {
 export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
   const study = studyFromFlags(file, flags);
   const folder = flags.out ?? join('results', study.scenario.name);
+  if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
+  if (flags.overwrite) rmSync(folder, { recursive: true, force: true });
   openRunFolder(folder, study, flags.resume ?? false);
   const started = Date.now();
   const workers = positiveInt('workers', flags.workers);

@@ -50,11 +50,13 @@ function defaultBounds(name: string, range: number): Bounded {
   switch (leaf) {
     case 'sd':
     case 'sd0':
-      return name.includes('log-gaussian') ? { lower: 0.005, upper: 3, transform: 'log' } : { lower: range * 1e-3, upper: range, transform: 'log' };
+      // Sensory noise below 1% of the response range is implausible for estimation
+      // tasks, and the grids (which follow the noise) grow as range/sd.
+      return name.includes('log-gaussian') ? { lower: 0.01, upper: 3, transform: 'log' } : { lower: range * 1e-2, upper: range / 2, transform: 'log' };
     case 'weber':
-      return { lower: 0.005, upper: 1.5, transform: 'log' };
+      return { lower: 0.01, upper: 1.5, transform: 'log' };
     case 'motorSd':
-      return { lower: range * 1e-3, upper: range / 2, transform: 'log' };
+      return { lower: range * 2e-3, upper: range / 2, transform: 'log' };
     case 'lapseRate':
       return { lower: 1e-4, upper: 0.3, transform: 'logit' };
     case 'window':

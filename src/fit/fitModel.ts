@@ -156,8 +156,10 @@ export function fitModel(model: CandidateModel, data: Dataset, options: FitOptio
         return Math.log(p / (1 - p));
       });
       // Gradient step 1e-3: large enough that quadrature-level roughness of the
-      // likelihood (≲1e-5) cannot dominate the difference quotient.
-      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 1e-7, gradientStep: 1e-3 });
+      // likelihood (≲1e-5) cannot dominate the difference quotient; the gradient
+      // tolerance (2e-5·|log L|) sits above that roughness, and at the Hessian's
+      // curvature it moves the parameters by far less than one standard error.
+      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 2e-5, gradientStep: 1e-3 });
       if (!r.converged && r.evaluations < budget && Number.isFinite(r.value)) {
         const nm = nelderMead(f, r.x, { maxEvaluations: budget - r.evaluations, initialStep: 0.3, restart: false });
         r = { ...nm, evaluations: r.evaluations + nm.evaluations, reason: `${r.reason}; then ${nm.reason}` };
