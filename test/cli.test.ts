@@ -32,7 +32,7 @@ describe('lossprobe preview', () => {
     const out = join(mkdtempSync(join(tmpdir(), 'lp-')), 'preview');
     const r = run(['preview', 'scenarios/gaussian-control.yaml', '--out', out]);
     expect(r.status).toBe(0);
-    expect(r.stdout).toMatch(/Identical estimates under this design: squared and absolute/);
+    expect(r.stdout).toMatch(/Identical estimates under this design at these parameter values: squared and absolute/);
     expect(r.stdout).not.toMatch(/asymmetric and/);
   });
 

@@ -143,6 +143,9 @@ export function printPreview(r: PreviewResult): void {
       const scale = Math.max(1e-12, ...r.estimates.flat(2).map(Math.abs));
       if (maxDiff < 1e-6 * scale) same.push(`${s.models[a].name} and ${s.models[b].name}`);
     }
-  if (same.length) console.log(`\nIdentical estimates under this design: ${same.join('; ')}. No number of trials can tell these apart here.`);
+  if (same.length) {
+    console.log(`\nIdentical estimates under this design at these parameter values: ${same.join('; ')}.`);
+    console.log('Distinct families that coincide here cannot be told apart by any number of trials; a family containing another (power contains squared at exponent 2 and absolute at exponent 1) coincides with it at that value and is told apart only where its parameter differs.');
+  }
   console.log(`\nFigures and estimates.csv written to ${r.folder}/`);
 }
