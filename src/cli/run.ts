@@ -4,7 +4,7 @@
  * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
  */
 import Table from 'cli-table3';
-import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
@@ -94,10 +94,16 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
   const study = studyFromFlags(file, flags);
   const folder = flags.out ?? join('results', study.scenario.name);
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
-  if (flags.overwrite) rmSync(folder, { recursive: true, force: true });
+  // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
+  const workers = positiveInt('workers', flags.workers);
+  if (flags.overwrite && existsSync(folder)) {
+    // Only ever delete what is recognisably a run folder.
+    const isRun = existsSync(join(folder, 'scenario.json')) || existsSync(join(folder, 'jobs.jsonl')) || readdirSync(folder).length === 0;
+    if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
+    rmSync(folder, { recursive: true, force: true });
+  }
   openRunFolder(folder, study, flags.resume ?? false);
   const started = Date.now();
-  const workers = positiveInt('workers', flags.workers);
   const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });
   if (outcome.interrupted) {
     process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished jobs are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);

@@ -1,7 +1,9 @@
 /**
  * One synthetic observer: its true parameters and its one trial sequence,
  * drawn from a stream that depends only on the master seed, the generating
- * model and the observer index. Datasets at different trial counts are
+ * model and the observer index. The sequence is drawn for the study's largest
+ * trial count (which the scenario hash fixes), so within a study every
+ * smaller count is a prefix of it. Datasets at different trial counts are
  * nested prefixes of that sequence, balanced across conditions in every
  * block, so a sweep compares like with like.
  */
