@@ -12,6 +12,7 @@ import type { Observer } from './observer.js';
 import type { SensoryNoise, Warp } from './noise/types.js';
 import { buildPosteriorGrid, measurementRange } from './gridFactory.js';
 import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
+import { segmentIndex } from '../numerics/search.js';
 
 /** Grid step in v (noise sds). */
 export const CURVE_STEP = Number(process.env.LP_CURVE_STEP ?? 0.5);
@@ -154,19 +155,9 @@ export class EstimateCurve {
     return [vs, xs, brk];
   }
 
-  /** Index i with v[i] ≤ v < v[i+1] (clamped), by bisection (nodes are not uniform). */
+  /** Index i with v[i] ≤ v < v[i+1] (clamped); nodes are not uniform. */
   segmentOf(v: number): number {
-    const a = this.v;
-    let lo = 0;
-    let hi = a.length - 2;
-    if (v <= a[0]) return 0;
-    if (v >= a[hi]) return hi;
-    while (lo < hi) {
-      const mid = (lo + hi + 1) >> 1;
-      if (a[mid] <= v) lo = mid;
-      else hi = mid - 1;
-    }
-    return lo;
+    return segmentIndex(this.v, v);
   }
 
   /** Cubic Hermite interpolation on segment i at v. */

@@ -13,6 +13,7 @@
  * skipped outright, which is what keeps small motor noise cheap.
  */
 import { normCdf } from '../numerics/special.js';
+import { segmentIndex } from '../numerics/search.js';
 import { closedFormEstimate, evaluateClosedForm, type ClosedFormEstimate } from './closedForm.js';
 import { EstimateCurve, hermite, hermiteDerivative } from './estimateCurve.js';
 import type { Dataset, Observer } from './observer.js';
@@ -125,8 +126,8 @@ export class ConditionResponse {
     const { gVal, gDer, pVal, pDer } = this;
     const c = this.noise.center(x);
     const sd = this.noise.sdAt(x);
-    const i0 = segmentIn(v, warpM.toU(c - WINDOW * sd));
-    const i1 = segmentIn(v, warpM.toU(c + WINDOW * sd));
+    const i0 = segmentIndex(v, warpM.toU(c - WINDOW * sd));
+    const i1 = segmentIndex(v, warpM.toU(c + WINDOW * sd));
     const reach = KERNEL_CUT * sm;
     const invSm = 1 / sm;
     const invSd = 1 / sd;
@@ -227,20 +228,6 @@ export class ConditionResponse {
 
 /** Integration step in warped measurement units (noise sds): spectrally accurate for p(m | x). */
 const INTEGRATION_STEP = 0.5;
-
-/** Index i with v[i] ≤ t < v[i+1], clamped, by bisection. */
-function segmentIn(v: Float64Array, t: number): number {
-  let lo = 0;
-  let hi = v.length - 2;
-  if (t <= v[0]) return 0;
-  if (t >= v[hi]) return hi;
-  while (lo < hi) {
-    const mid = (lo + hi + 1) >> 1;
-    if (v[mid] <= t) lo = mid;
-    else hi = mid - 1;
-  }
-  return lo;
-}
 
 /**
  * Merge a uniform grid (anchored at v = 0, so it moves continuously with the
