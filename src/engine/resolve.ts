@@ -5,6 +5,8 @@
  * observer validity at the scenario's own values).
  */
 import { createHash } from 'node:crypto';
+import { dirname, resolve } from 'node:path';
+import { readTrialList } from '../scenario/trialList.js';
 import { readStructuredFile, validate } from '../scenario/load.js';
 import { scenarioSchema, type Scenario } from '../scenario/schema.js';
 import { defineCandidate, observerFromValues, type CandidateModel } from '../fit/candidate.js';
@@ -47,8 +49,10 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
   const generating = s.generate.models ?? s.models.map((m) => m.name);
   const problems: string[] = [];
   const stimulus = createDistribution(s.stimulus ?? s.prior);
+  const stimulusSupport: readonly [number, number] =
+    s.trialList && typeof s.trialList !== 'string' ? [Math.min(...s.trialList.stimulus), Math.max(...s.trialList.stimulus)] : stimulus.support;
   for (const c of candidates) {
-    for (const p of observerProblems(observerFromValues(c, c.base), stimulus.support)) problems.push(`model '${c.name}': ${p}`);
+    for (const p of observerProblems(observerFromValues(c, c.base), stimulusSupport)) problems.push(`model '${c.name}': ${p}`);
     for (const f of c.free) {
       const v = c.base[f.name];
       if (!(f.lower < f.upper)) problems.push(`model '${c.name}': bounds of ${f.name} must have lower < upper`);
@@ -72,6 +76,12 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
 
 export function loadStudy(file: string, overrides: { observers?: number; trials?: number[]; seed?: number } = {}): ResolvedStudy {
   const raw = readStructuredFile(file) as Record<string, unknown>;
+  // A trial-list file is read here and inlined, so the scenario hash covers its
+  // contents and workers need no file access.
+  if (raw && typeof raw === 'object' && typeof raw.trialList === 'string') {
+    const conditions = Array.isArray(raw.conditions) ? (raw.conditions as { name?: unknown }[]).map((c) => String(c?.name)) : [];
+    raw.trialList = readTrialList(resolve(dirname(file), raw.trialList), conditions);
+  }
   const s = validate(scenarioSchema, raw, file);
   if (overrides.observers !== undefined) s.generate.observers = overrides.observers;
   if (overrides.trials !== undefined) s.trials = overrides.trials.length === 1 ? overrides.trials[0] : overrides.trials;

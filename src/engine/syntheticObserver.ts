@@ -50,6 +50,23 @@ export function syntheticDataset(study: ResolvedStudy, generating: string, obser
   const stimulus = new Float64Array(maxT);
   const condition = new Int32Array(maxT);
   const block: number[] = [];
+  // With an explicit trial list, each condition's listed stimuli are dealt in a
+  // fresh random order per observer (reshuffled each time they run out), so
+  // prefixes stay condition-balanced and use exactly the listed values.
+  const list = s.trialList && typeof s.trialList !== 'string' ? s.trialList : null;
+  const queues: number[][] = s.conditions.map(() => []);
+  const pools: number[][] = s.conditions.map((c) => (list ? list.stimulus.filter((_, i) => list.condition[i] === c.name) : []));
+  const nextListed = (c: number): number => {
+    if (queues[c].length === 0) {
+      const q = pools[c].slice();
+      for (let i = q.length - 1; i > 0; i--) {
+        const j = Math.floor(rand() * (i + 1));
+        [q[i], q[j]] = [q[j], q[i]];
+      }
+      queues[c] = q;
+    }
+    return queues[c].pop()!;
+  };
   for (let t = 0; t < maxT; t++) {
     if (t % nCond === 0) {
       // A fresh random order of the conditions for every block.
@@ -61,7 +78,7 @@ export function syntheticDataset(study: ResolvedStudy, generating: string, obser
       }
     }
     condition[t] = block[t % nCond];
-    stimulus[t] = stimulusDist.sample(rand);
+    stimulus[t] = list ? nextListed(condition[t]) : stimulusDist.sample(rand);
   }
   const full = simulateResponses(observerFromValues(model, truth), stimulus, condition, rand);
   return { truth, full };

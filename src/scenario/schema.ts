@@ -33,6 +33,13 @@ export const scenarioSchema = z
     seed: z.number().int().nonnegative().default(1),
     prior: distributionSchema.describe("the observer's prior"),
     stimulus: distributionSchema.optional().describe('stimulus distribution (default: the prior)'),
+    trialList: z
+      .union([
+        z.string().min(1).describe('CSV file with columns stimulus and condition (path relative to the scenario file)'),
+        z.strictObject({ stimulus: z.array(z.number()).min(1), condition: z.array(z.string()).min(1) }),
+      ])
+      .optional()
+      .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution'),
     conditions: z.array(conditionSchema).min(1, 'at least one condition is needed'),
     response: responseSchema,
     models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
@@ -68,6 +75,15 @@ export const scenarioSchema = z
     });
     for (const m of Object.keys(s.generate.perModel)) {
       if (!names.includes(m)) ctx.addIssue({ code: 'custom', message: `'${m}' is not one of the models (${names.join(', ')})`, path: ['generate', 'perModel', m] });
+    }
+    if (s.trialList && typeof s.trialList !== 'string') {
+      const tl = s.trialList;
+      if (tl.stimulus.length !== tl.condition.length) ctx.addIssue({ code: 'custom', message: 'stimulus and condition lists must have the same length', path: ['trialList'] });
+      const names = new Set(s.conditions.map((c) => c.name));
+      tl.condition.forEach((c, i) => {
+        if (!names.has(c)) ctx.addIssue({ code: 'custom', message: `trial ${i + 1}: unknown condition '${c}' (known: ${[...names].join(', ')})`, path: ['trialList', 'condition', i] });
+      });
+      for (const c of names) if (!tl.condition.includes(c)) ctx.addIssue({ code: 'custom', message: `condition '${c}' has no trials in the trial list`, path: ['trialList'] });
     }
     const cond = new Set<string>();
     s.conditions.forEach((c, i) => {
