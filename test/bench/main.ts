@@ -105,8 +105,10 @@ if (!quick) {
   console.log('\n3. Jobs per second end to end on the skewed demo (12 jobs)');
   const cli = join(process.cwd(), 'dist', 'cli', 'main.js');
   const rates: number[] = [];
+  let lastRun = '';
   for (const w of [1, 2]) {
     const out = join(mkdtempSync(join(tmpdir(), 'lp-bench-')), 'run');
+    lastRun = out;
     const t0 = performance.now();
     const r = spawnSync(process.execPath, [cli, 'run', 'scenarios/skewed-magnitudes.yaml', '--observers', '4', '--workers', String(w), '--out', out, '--quiet', '--json'], { encoding: 'utf8' });
     const secs = (performance.now() - t0) / 1000;
@@ -125,7 +127,7 @@ if (!quick) {
     const s = summarize(lines, { candidates: ['squared', 'absolute', 'hit-or-miss'], generating: ['squared', 'absolute', 'hit-or-miss'] });
     console.log(JSON.stringify({ jobs: s.jobs, rssMB: process.resourceUsage().maxRSS / 1024 }));`;
   writeFileSync(join(dir, 'mem.mjs'), script);
-  const template = readFileSync(join(process.cwd(), 'results', 'skewed-magnitudes', 'jobs.jsonl'), 'utf8').trim().split('\n')[0];
+  const template = readFileSync(join(lastRun, 'jobs.jsonl'), 'utf8').trim().split('\n')[0];
   for (const n of [1000, 10000]) {
     const base = JSON.parse(template);
     const gens = ['squared', 'absolute', 'hit-or-miss'];
