@@ -43,7 +43,11 @@ export function criterionValue(fit: FitResult, criterion: Criterion, cvLogLik?: 
 }
 
 export function compareFits(fits: FitResult[], criterion: Criterion, margin = 0, cvLogLik?: Record<string, number>): Comparison {
-  const failed = fits.filter((f) => f.status !== 'ok').map((f) => f.model);
+  // A failed fit, or (for cross-validation) a fold that could not be fitted,
+  // makes the whole comparison failed: it is never won by the rest.
+  const failed = fits
+    .filter((f) => f.status !== 'ok' || (criterion === 'cv' && !Number.isFinite(cvLogLik?.[f.model] ?? NaN)))
+    .map((f) => f.model);
   const scores = fits.map((f) => criterionValue(f, criterion, cvLogLik?.[f.model]));
   const best = Math.min(...scores);
   const delta: Record<string, number> = {};

@@ -67,6 +67,8 @@ export class GridPosterior {
   last = -1;
   readonly warp: Warp;
   readonly supportU: readonly [number, number];
+  /** The prior's support in stimulus units. */
+  readonly supportX: readonly [number, number];
   private readonly transform: Float64Array;
   private readonly uniformWidth: number;
   private readonly anchor: number;
@@ -90,6 +92,7 @@ export class GridPosterior {
     const sLo = Number.isFinite(prior.support[0]) ? warp.toU(prior.support[0]) : -Infinity;
     const sHi = Number.isFinite(prior.support[1]) ? warp.toU(prior.support[1]) : Infinity;
     this.supportU = [sLo, sHi];
+    this.supportX = prior.support;
     let lo = Math.max(setup.uLo, sLo);
     let hi = Math.min(setup.uHi, sHi);
     if (!(hi > lo)) throw new RangeError('the measurements lie entirely outside the prior support');
@@ -183,8 +186,10 @@ export class GridPosterior {
     if (this.prior.logConcave) {
       const uPeak = this.warp.toU(this.noise.stimulusAt(m));
       if (Number.isFinite(uPeak)) {
-        const a = this.nodeAtOrAbove(uPeak - WINDOW_U);
-        const b = this.nodeAtOrAbove(uPeak + WINDOW_U) - 1;
+        // Whole panels: normalise works panel by panel and must never read a
+        // node this measurement did not evaluate.
+        const a = Math.floor(this.nodeAtOrAbove(uPeak - WINDOW_U) / NODES_PER_PANEL) * NODES_PER_PANEL;
+        const b = Math.min(J - 1, Math.ceil(this.nodeAtOrAbove(uPeak + WINDOW_U) / NODES_PER_PANEL) * NODES_PER_PANEL - 1);
         if (b - a > 2 * NODES_PER_PANEL) {
           const max = this.evaluate(m, a, b);
           const thr = max - LOG_CUTOFF;

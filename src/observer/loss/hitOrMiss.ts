@@ -89,11 +89,19 @@ export function hitOrMissLoss(window: number): LossFunction {
         // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
         // within ε of the mode, so bracket there and skip the scan.
         const j = post.peakNode();
-        const a = post.x[Math.max(post.first, j - 1)] - window;
-        const b = post.x[Math.min(post.last, j + 1)] + window;
+        // A window cannot usefully stick out of the support: its centre stays
+        // within [lower + ε, upper − ε], and sits at that end when the posterior
+        // is still falling there (the mode is at or near the end).
+        const [sLo, sHi] = post.supportX;
+        const cMin = Number.isFinite(sLo) ? sLo + window : -Infinity;
+        const cMax = Number.isFinite(sHi) ? sHi - window : Infinity;
+        const a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
+        const b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
         const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
         const ga = g(a);
         const gb = g(b);
+        if (a === cMin && ga <= 0) return cMin;
+        if (b === cMax && gb >= 0) return cMax;
         if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])));
       }
       return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
