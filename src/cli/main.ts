@@ -1,6 +1,6 @@
 #!/usr/bin/env node
 /** lossprobe command line: thin commands that parse, call and print. */
-import { Command } from 'commander';
+import { Command, CommanderError } from 'commander';
 import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
@@ -17,7 +17,8 @@ async function main(argv: string[]): Promise<void> {
     .name('lossprobe')
     .description('Check whether an estimation experiment can tell which loss function a Bayesian observer minimises.')
     .version(version)
-    .showHelpAfterError();
+    .showHelpAfterError()
+    .exitOverride();
   program
     .command('preview')
     .description('tabulate and plot the Bayes estimate of each candidate loss for a prior and sensory noise')
@@ -47,6 +48,10 @@ async function main(argv: string[]): Promise<void> {
 }
 
 main(process.argv).catch((e: unknown) => {
+  if (e instanceof CommanderError) {
+    // Commander has printed its message; help and --version are not errors.
+    process.exit(e.exitCode === 0 ? 0 : 2);
+  }
   if (e instanceof UserError) {
     process.stderr.write(`lossprobe: ${e.message}\n`);
     process.exit(2);

@@ -4,7 +4,7 @@
  * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
  */
 import Table from 'cli-table3';
-import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
@@ -24,16 +24,21 @@ export interface RunFlags {
   quiet?: boolean;
 }
 
-function positiveInt(flag: string, v: string | undefined): number | undefined {
+function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
-  if (!Number.isInteger(n) || n < 1) throw new UserError(`--${flag} expects a whole number ≥ 1 (got '${v}')`);
+  if (!Number.isInteger(n) || n < 1 || n > max) throw new UserError(`--${flag} expects a whole number from 1 to ${max} (got '${v}')`);
   return n;
 }
 
 export function parseTrials(v: string | undefined): number[] | undefined {
   if (v === undefined) return undefined;
   const range = /^(\d+):(\d+):(\d+)$/.exec(v);
+  if (range) {
+    const [start, end, step] = [Number(range[1]), Number(range[2]), Number(range[3])];
+    if (!(step >= 1 && end >= start && (end - start) / step < 200))
+      throw new UserError(`--trials range start:end:step needs step ≥ 1, end ≥ start and at most 200 counts (got '${v}')`);
+  }
   const list = range
     ? Array.from({ length: Math.floor((Number(range[2]) - Number(range[1])) / Number(range[3])) + 1 }, (_, i) => Number(range[1]) + i * Number(range[3]))
     : v.split(',').map((s) => Number(s.trim()));
@@ -52,21 +57,42 @@ export function openRunFolder(folder: string, study: ResolvedStudy, resume: bool
   const scenarioPath = join(folder, 'scenario.json');
   if (existsSync(join(folder, 'jobs.jsonl'))) {
     if (!resume) throw new UserError(`${folder} already holds a run; add --resume to continue it, or choose another folder with --out`);
-    const prior = existsSync(scenarioPath) ? (JSON.parse(readFileSync(scenarioPath, 'utf8')) as { hash?: string }) : {};
+    const prior = runFolderScenario(folder) ?? {};
     if (prior.hash !== study.hash)
       throw new UserError(`${folder} holds a run of a different scenario or settings (scenario hash differs); resume it with the same file and flags, or use another --out`);
     return;
   }
-  mkdirSync(folder, { recursive: true });
-  writeFileSync(scenarioPath, JSON.stringify({ hash: study.hash, scenario: study.scenario }, null, 2) + '\n');
+  try {
+    mkdirSync(folder, { recursive: true });
+    writeAtomically(scenarioPath, JSON.stringify({ hash: study.hash, scenario: study.scenario }, null, 2) + '\n');
+  } catch (e) {
+    throw new UserError(`cannot create the run folder ${folder}: ${(e as Error).message}`);
+  }
+}
+
+/** The {hash, scenario} record of a run folder, or null when absent or unreadable. */
+function runFolderScenario(folder: string): { hash?: string } | null {
+  try {
+    const v = JSON.parse(readFileSync(join(folder, 'scenario.json'), 'utf8')) as { hash?: unknown; scenario?: unknown };
+    return typeof v.hash === 'string' && v.scenario ? { hash: v.hash } : null;
+  } catch {
+    return null;
+  }
+}
+
+/** Write to a temporary name and rename, so a file is never seen half-written. */
+function writeAtomically(path: string, text: string): void {
+  const tmp = `${path}.partial-${process.pid}`;
+  writeFileSync(tmp, text);
+  renameSync(tmp, path);
 }
 
 export function writeStudyOutputs(folder: string, summary: StudySummary, lines: Parameters<typeof fitsCsv>[0]): void {
-  writeFileSync(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
-  writeFileSync(join(folder, 'fits.csv'), fitsCsv(lines));
-  writeFileSync(join(folder, 'parameters.csv'), parametersCsv(lines));
-  writeFileSync(join(folder, 'confusion.csv'), confusionCsv(summary));
-  writeFileSync(join(folder, 'inversion.csv'), inversionCsv(summary));
+  writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
+  writeAtomically(join(folder, 'fits.csv'), fitsCsv(lines));
+  writeAtomically(join(folder, 'parameters.csv'), parametersCsv(lines));
+  writeAtomically(join(folder, 'confusion.csv'), confusionCsv(summary));
+  writeAtomically(join(folder, 'inversion.csv'), inversionCsv(summary));
 }
 
 const pct = (x: number | null | undefined) => (x === null || x === undefined ? '–' : `${Math.round(100 * x)}%`);
@@ -95,10 +121,10 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
   const folder = flags.out ?? join('results', study.scenario.name);
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
-  const workers = positiveInt('workers', flags.workers);
+  const workers = positiveInt('workers', flags.workers, 256);
   if (flags.overwrite && existsSync(folder)) {
     // Only ever delete what is recognisably a run folder.
-    const isRun = existsSync(join(folder, 'scenario.json')) || existsSync(join(folder, 'jobs.jsonl')) || readdirSync(folder).length === 0;
+    const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
     if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
     rmSync(folder, { recursive: true, force: true });
   }

@@ -50,7 +50,9 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
   const problems: string[] = [];
   const stimulus = createDistribution(s.stimulus ?? s.prior);
   const stimulusSupport: readonly [number, number] =
-    s.trialList && typeof s.trialList !== 'string' ? [Math.min(...s.trialList.stimulus), Math.max(...s.trialList.stimulus)] : stimulus.support;
+    s.trialList && typeof s.trialList !== 'string'
+      ? [s.trialList.stimulus.reduce((a, b) => Math.min(a, b), Infinity), s.trialList.stimulus.reduce((a, b) => Math.max(a, b), -Infinity)]
+      : stimulus.support;
   for (const c of candidates) {
     for (const p of observerProblems(observerFromValues(c, c.base), stimulusSupport)) problems.push(`model '${c.name}': ${p}`);
     for (const f of c.free) {
@@ -67,6 +69,16 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
   for (const [model, draws] of Object.entries(s.generate.perModel)) {
     const c = candidates.find((m) => m.name === model)!;
     for (const name of Object.keys(draws)) if (!(name in c.base)) problems.push(`generate.perModel.${model}.${name}: model '${model}' has no such parameter (known: ${Object.keys(c.base).join(', ')})`);
+  }
+  for (const c of gen) {
+    const draws = { ...s.generate.parameters, ...(s.generate.perModel[c.name] ?? {}) };
+    for (const [name, d] of Object.entries(draws)) {
+      const f = c.free.find((p) => p.name === name);
+      if (!f) continue;
+      const [lo, hi] = 'fixed' in d ? [d.fixed, d.fixed] : 'uniform' in d ? d.uniform : d.logUniform;
+      if (lo < f.lower || hi > f.upper)
+        problems.push(`generate: true values of ${name} for model '${c.name}' range over [${lo}, ${hi}], outside its fitting bounds [${f.lower}, ${f.upper}] (widen the bounds or narrow the draw)`);
+    }
   }
   if (problems.length) throw new UserError(`${source} has ${problems.length} problem${problems.length > 1 ? 's' : ''}:\n${problems.map((p) => `  - ${p}`).join('\n')}`);
   const trialCounts = [...new Set(Array.isArray(s.trials) ? s.trials : [s.trials])].sort((a, b) => a - b);

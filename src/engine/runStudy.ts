@@ -80,7 +80,9 @@ export async function runStudy(study: ResolvedStudy, o: RunOptions): Promise<Run
     } catch {
       if (interrupted) return;
       try {
-        line = { ...(await pool.run(task)), attempts: 2 };
+        // A successful retry yields the same line as a first success (the job is a
+        // pure function of its key), so the line does not record the retry.
+        line = await pool.run(task);
       } catch (second) {
         if (interrupted) return;
         line = failedLine(spec, (second as Error).message ?? String(second));

@@ -6,6 +6,7 @@
  */
 import { closeSync, existsSync, fsyncSync, openSync, readFileSync, truncateSync, writeSync } from 'node:fs';
 import type { JobLine } from '../analysis/types.js';
+import { UserError } from '../cli/userError.js';
 
 export function readJobLines(path: string): { lines: JobLine[]; truncatedBytes: number } {
   if (!existsSync(path)) return { lines: [], truncatedBytes: 0 };
@@ -20,6 +21,8 @@ export function readJobLines(path: string): { lines: JobLine[]; truncatedBytes: 
     try {
       lines.push(JSON.parse(chunk) as JobLine);
     } catch {
+      // Only the last line can be torn by a kill; damage before it is not ours to repair.
+      if (nl + 1 < text.length) throw new UserError(`${path}, line ${lines.length + 1}: not a complete job record, and lines follow it; the file was edited or joined by hand (fix or remove that line, then --resume)`);
       break;
     }
     pos = nl + 1;

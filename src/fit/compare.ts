@@ -58,7 +58,7 @@ export function compareFits(fits: FitResult[], criterion: Criterion, margin = 0,
     z += Number.isFinite(delta[f.model]) ? Math.exp(-delta[f.model] / 2) : 0;
   });
   fits.forEach((f) => (weight[f.model] = Number.isFinite(delta[f.model]) ? Math.exp(-delta[f.model] / 2) / z : 0));
-  const order = fits.map((f) => f.model).sort((a, b) => delta[a] - delta[b] || a.localeCompare(b));
+  const order = fits.map((f) => f.model).sort((a, b) => delta[a] - delta[b] || (a < b ? -1 : a > b ? 1 : 0));
   if (failed.length || !Number.isFinite(best)) return { criterion, status: 'failed', winner: null, contenders: [], delta, weight, failed };
   // Criterion units are −2 log L, so the log-likelihood tolerance doubles.
   const tied = order.filter((m) => delta[m] < 2 * TIE_TOLERANCE_LOGLIK);
