@@ -102,7 +102,7 @@ for (const [name, loss, starts] of [
 }
 
 if (!quick) {
-  console.log('\n3. Jobs per second end to end on the skewed demo (12 jobs)');
+  console.log('\n3. Jobs per second end to end on the skewed demo (30 jobs)');
   const cli = join(process.cwd(), 'dist', 'cli', 'main.js');
   const rates: number[] = [];
   let lastRun = '';
@@ -110,11 +110,11 @@ if (!quick) {
     const out = join(mkdtempSync(join(tmpdir(), 'lp-bench-')), 'run');
     lastRun = out;
     const t0 = performance.now();
-    const r = spawnSync(process.execPath, [cli, 'run', 'scenarios/skewed-magnitudes.yaml', '--observers', '4', '--workers', String(w), '--out', out, '--quiet', '--json'], { encoding: 'utf8' });
+    const r = spawnSync(process.execPath, [cli, 'run', 'scenarios/skewed-magnitudes.yaml', '--observers', '10', '--workers', String(w), '--out', out, '--quiet', '--json'], { encoding: 'utf8' });
     const secs = (performance.now() - t0) / 1000;
     if (r.status !== 0) throw new Error(r.stderr);
-    rates.push(12 / secs);
-    console.log(`   ${w} worker${w > 1 ? 's' : ' '}: ${(12 / secs).toFixed(3)} jobs/s (${secs.toFixed(1)} s)`);
+    rates.push(30 / secs);
+    console.log(`   ${w} worker${w > 1 ? 's' : ' '}: ${(30 / secs).toFixed(3)} jobs/s (${secs.toFixed(1)} s)`);
   }
   console.log(`   ratio 2 workers / 1 worker: ${(rates[1] / rates[0]).toFixed(2)} (target ≥ 1.8)`);
 
