@@ -7,7 +7,9 @@ import Table from 'cli-table3';
 import { join } from 'node:path';
 import { scenarioSchema, type Scenario } from '../scenario/schema.js';
 import { readStructuredFile, validate } from '../scenario/load.js';
-import { observerFor } from '../scenario/buildObserver.js';
+import { candidatesOf } from '../engine/resolve.js';
+import { observerFromValues } from '../fit/candidate.js';
+import { observerProblems } from '../observer/observer.js';
 import { buildPosteriorGrid, measurementRange } from '../observer/gridFactory.js';
 import { estimateAt, motorReach } from '../observer/estimateCurve.js';
 import { lineChart, type Series } from '../report/charts.js';
@@ -72,7 +74,13 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
   const source = file ?? 'command line';
   const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
   const s = validate(scenarioSchema, raw, source);
-  const observers = s.models.map((m) => observerFor(s, m.loss, source));
+  // The same construction as a recovery study's candidates, at their scenario values.
+  const observers = candidatesOf(s, source).map((c) => {
+    const obs = observerFromValues(c, c.base);
+    const problems = observerProblems(obs);
+    if (problems.length) throw new UserError(`${source}: ${problems.join('; ')}`);
+    return obs;
+  });
   const prior = observers[0].prior;
   const lo = prior.quantile(0.02);
   const hi = prior.quantile(0.98);

@@ -80,6 +80,7 @@ export class GridPosterior {
   /**
    * The posterior is log-concave for every measurement (log-concave prior and
    * constant Gaussian noise), so mode-seeking estimates need no global scan.
+   * It stays log-concave under the motor-noise convolution.
    */
   readonly logConcave: boolean;
 
@@ -179,7 +180,6 @@ export class GridPosterior {
     const J = this.nNodes;
     this.measurement = m;
     this.exactAvailable = true;
-    this.convolved = false;
     // With a log-concave prior the posterior is unimodal and sits within a few
     // noise sds of the likelihood peak: evaluate only there, and fall back to
     // every node when the window's edges still carry mass.
@@ -237,14 +237,6 @@ export class GridPosterior {
     const sd = this.noise.sdAt(x);
     const d = (this.measurement - this.noise.center(x)) / sd;
     return lp - 0.5 * d * d - Math.log(sd);
-  }
-
-  /** Set by convolveGaussian until the next measurement. */
-  convolved = false;
-
-  /** A log-concave posterior stays log-concave under Gaussian convolution. */
-  get isLogConcave(): boolean {
-    return this.logConcave;
   }
 
   /** Index of the node with the highest density. */
@@ -488,6 +480,5 @@ export class GridPosterior {
     for (let j = 0; j < J; j++) if (out[j] > max) max = out[j];
     this.exactAvailable = false;
     this.normalise(max);
-    this.convolved = true;
   }
 }

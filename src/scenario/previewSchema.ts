@@ -1,11 +1,9 @@
 /**
- * Schema of a preview scenario: the observer side of a design (prior,
- * conditions with their noise, response stage) and the candidate losses.
- * The schema is the single source of the TypeScript types and of the error
- * messages users see.
+ * Schemas of the observer side of a scenario: conditions with their noise, the
+ * response stage, and a candidate model's loss. scenario/schema.ts assembles
+ * them into the one scenario schema.
  */
 import { z } from 'zod';
-import { distributionSchema } from '../observer/distributions/registry.js';
 import { noiseSchema } from '../observer/noise/registry.js';
 import { lossSchema } from '../observer/loss/registry.js';
 
@@ -29,17 +27,3 @@ export const modelSchema = z.strictObject({
   name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only'),
   loss: lossSchema,
 });
-
-export const previewScenarioSchema = z
-  .strictObject({
-    name: z.string().min(1).default('preview'),
-    description: z.string().optional(),
-    prior: distributionSchema,
-    conditions: z.array(conditionSchema).min(1, 'at least one condition is needed'),
-    response: responseSchema,
-    models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
-    measurements: z.array(z.number()).optional().describe('measurements at which to tabulate the estimates'),
-  })
-  .refine((s) => new Set(s.models.map((m) => m.name)).size === s.models.length, { message: 'model names must be unique', path: ['models'] });
-
-export type PreviewScenario = z.infer<typeof previewScenarioSchema>;

@@ -85,7 +85,7 @@ export function hitOrMissLoss(window: number): LossFunction {
     params: { window },
     loss: (e) => (Math.abs(e) < window ? 0 : 1),
     estimate: (post) => {
-      if (post.isLogConcave && post.exactAvailable) {
+      if (post.logConcave && post.exactAvailable) {
         // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
         // within ε of the mode, so bracket there and skip the scan.
         const j = post.peakNode();

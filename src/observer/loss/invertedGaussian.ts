@@ -90,7 +90,7 @@ export function invertedGaussianLoss(width: number): LossFunction {
       const narrow = width < 0.5 * panelX;
       const ref = post.exactAvailable ? post.exactLogDensity(post.x[jMax]) : 0;
       const objective = (c: number) => smoothedPosterior(post, c, width, narrow, ref);
-      if (post.isLogConcave) {
+      if (post.logConcave) {
         // A log-concave posterior smoothed by a Gaussian stays log-concave, so its
         // maximum lies between the mode and the mean: a bracketed search suffices.
         const mean = post.mean();
