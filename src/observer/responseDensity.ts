@@ -29,6 +29,12 @@ const WINDOW = 8.5;
 
 type Kernel = 0 | 1 | 2; // 0: density at r, 1: P(response ≤ r), 2: P(response ≥ r)
 
+/** Φ(z) for kernel 1, Φ(−z) for kernel 2, exactly 0 or 1 beyond the cut. */
+function tailKernel(kernel: Kernel, z: number): number {
+  if (kernel === 1) return z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z);
+  return z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
+}
+
 export class ConditionResponse {
   readonly curve: EstimateCurve | null;
   readonly closed: ClosedFormEstimate | null;
@@ -103,7 +109,7 @@ export class ConditionResponse {
     this.pDer[k] = p * dlogp;
     const inCut = z <= KERNEL_CUT && z >= -KERNEL_CUT;
     const phi = inCut ? Math.exp(-0.5 * z * z) * INV_SQRT_2PI : 0;
-    const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z)) : z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
+    const K = tailKernel(kernel, z);
     this.gVal[k] = p * K;
     this.gDer[k] = p * (dlogp * K + (kernel === 1 ? -1 : 1) * phi * invSm * sl);
   }
@@ -193,7 +199,7 @@ export class ConditionResponse {
       const zm = (warpM.fromU(vs) - c) * invSd;
       if (kernel === 0) acc += Math.exp(-0.5 * (zm * zm + z * z)) * warpM.dxdu(vs) * pNorm * invSm * INV_SQRT_2PI;
       else {
-        const K = kernel === 1 ? (z > KERNEL_CUT ? 1 : normCdf(z)) : z < -KERNEL_CUT ? 1 : normCdf(-z);
+        const K = tailKernel(kernel, z);
         acc += K * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
       }
     }
