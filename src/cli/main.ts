@@ -5,6 +5,9 @@ import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
+import { fitCommand } from './fit.js';
+import { exportCommand } from './exportData.js';
+import { gradeCommand } from './grade.js';
 
 const require = createRequire(import.meta.url);
 const { version } = require('../../package.json') as { version: string };
@@ -44,6 +47,48 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => runCommand(file, opts, version));
+  program
+    .command('fit')
+    .description("fit every candidate model to every participant's data; per-participant comparison and random-effects model selection")
+    .argument('<scenario>', 'scenario file (YAML or JSON) with the candidate models')
+    .requiredOption('--data <file>', 'tidy CSV, one row per trial: participant, condition, stimulus, response')
+    .option('--participant-column <name>', "column of the participant id (default 'participant')")
+    .option('--condition-column <name>', "column of the condition name (default 'condition')")
+    .option('--stimulus-column <name>', "column of the stimulus (default 'stimulus')")
+    .option('--response-column <name>', "column of the response (default 'response')")
+    .option('--min-trials <n>', 'fewest trials a participant may have (default 20)')
+    .option('--evidence <bic|cv>', 'log-evidence for random-effects selection: bic (−BIC/2, default) or cv (cross-validated log-likelihood)')
+    .option('--recovery <run-folder>', "read each participant's winner against this recovery study of the same scenario")
+    .option('--bootstrap <n>', "parametric bootstrap: n datasets from each participant's best and second-best fitted model, refitted")
+    .option('--draws-out <file>', "write participants' fitted parameters as a parameter-draw file (for generate.drawFile)")
+    .option('--draws-participants <ids>', 'only these participants (comma-separated) in --draws-out')
+    .option('--workers <w>', 'worker threads (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>-fit)')
+    .option('--resume', 'continue a fit that was interrupted')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => fitCommand(file, opts, version));
+  program
+    .command('export')
+    .description('write the synthetic datasets of a recovery study as the CSV `fit` reads, with the truth in a separate file')
+    .argument('<scenario>', 'scenario file (YAML or JSON)')
+    .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
+    .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--out <folder>', 'output folder (default results/<name>-export)')
+    .option('--overwrite', 'replace an existing export folder')
+    .option('--quiet', 'print nothing')
+    .action((file: string, opts) => exportCommand(file, opts));
+  program
+    .command('grade')
+    .description("score an outside fitting program's answers on exported data: confusion matrix and parameter recovery, as `run` reports them")
+    .argument('<truth>', 'truth file written by export (truth/truth.json)')
+    .requiredOption('--fits <file>', 'CSV of answers: participant, model (chosen), optional chosen column and parameter estimates')
+    .option('--out <folder>', 'run folder (default results/<name>-grade)')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .action((truth: string, opts) => gradeCommand(truth, opts, version));
   await program.parseAsync(argv);
 }
 

@@ -53,7 +53,7 @@ export function studyFromFlags(file: string, f: RunFlags): ResolvedStudy {
 }
 
 /** Prepare (or reopen for --resume) a run folder; refuse to mix studies. */
-export function openRunFolder(folder: string, study: ResolvedStudy, resume: boolean): void {
+export function openRunFolder(folder: string, study: Pick<ResolvedStudy, 'hash' | 'scenario'>, resume: boolean): void {
   const scenarioPath = join(folder, 'scenario.json');
   if (existsSync(join(folder, 'jobs.jsonl'))) {
     if (!resume) throw new UserError(`${folder} already holds a run; add --resume to continue it, or choose another folder with --out`);
@@ -81,7 +81,7 @@ function runFolderScenario(folder: string): { hash?: string } | null {
 }
 
 /** Write to a temporary name and rename, so a file is never seen half-written. */
-function writeAtomically(path: string, text: string): void {
+export function writeAtomically(path: string, text: string): void {
   const tmp = `${path}.partial-${process.pid}`;
   writeFileSync(tmp, text);
   renameSync(tmp, path);
@@ -116,19 +116,25 @@ export function printStudy(summary: StudySummary, folder: string): void {
   console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
 }
 
-export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
-  const study = studyFromFlags(file, flags);
-  const folder = flags.out ?? join('results', study.scenario.name);
+export const workerCount = (v: string | undefined) => positiveInt('workers', v, 256);
+
+/** --overwrite (only ever of a recognisable run folder) or --resume, then open the folder. Call after every flag is checked. */
+export function prepareRunFolder(folder: string, study: Pick<ResolvedStudy, 'hash' | 'scenario'>, flags: { overwrite?: boolean; resume?: boolean }): void {
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
-  // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
-  const workers = positiveInt('workers', flags.workers, 256);
   if (flags.overwrite && existsSync(folder)) {
-    // Only ever delete what is recognisably a run folder.
     const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
     if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
     rmSync(folder, { recursive: true, force: true });
   }
   openRunFolder(folder, study, flags.resume ?? false);
+}
+
+export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
+  const study = studyFromFlags(file, flags);
+  const folder = flags.out ?? join('results', study.scenario.name);
+  // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
+  const workers = workerCount(flags.workers);
+  prepareRunFolder(folder, study, flags);
   const started = Date.now();
   const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });
   if (outcome.interrupted) {

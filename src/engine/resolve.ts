@@ -7,6 +7,7 @@
 import { createHash } from 'node:crypto';
 import { dirname, resolve } from 'node:path';
 import { readTrialList } from '../scenario/trialList.js';
+import { readDrawFile } from '../scenario/drawFile.js';
 import { readStructuredFile, validate } from '../scenario/load.js';
 import { scenarioSchema, type Scenario } from '../scenario/schema.js';
 import { defineCandidate, observerFromValues, type CandidateModel } from '../fit/candidate.js';
@@ -70,6 +71,19 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
     const c = candidates.find((m) => m.name === model)!;
     for (const name of Object.keys(draws)) if (!(name in c.base)) problems.push(`generate.perModel.${model}.${name}: model '${model}' has no such parameter (known: ${Object.keys(c.base).join(', ')})`);
   }
+  const drawFile = s.generate.drawFile;
+  if (drawFile && typeof drawFile !== 'string') {
+    for (const c of gen) {
+      if (!drawFile.model.includes(c.name)) problems.push(`generate.drawFile: no participant rows for generating model '${c.name}' (the file has: ${[...new Set(drawFile.model)].join(', ')})`);
+      drawFile.model.forEach((m, i) => {
+        if (m !== c.name) return;
+        for (const [name, v] of Object.entries(drawFile.values[i])) {
+          const f = c.free.find((p) => p.name === name);
+          if (f && !(v >= f.lower && v <= f.upper)) problems.push(`generate.drawFile: participant '${drawFile.participant[i]}' has ${name} = ${v} for model '${c.name}', outside its fitting bounds [${f.lower}, ${f.upper}]`);
+        }
+      });
+    }
+  }
   for (const c of gen) {
     const draws = { ...s.generate.parameters, ...(s.generate.perModel[c.name] ?? {}) };
     for (const [name, d] of Object.entries(draws)) {
@@ -94,6 +108,8 @@ export function loadStudy(file: string, overrides: { observers?: number; trials?
     const conditions = Array.isArray(raw.conditions) ? (raw.conditions as { name?: unknown }[]).map((c) => String(c?.name)) : [];
     raw.trialList = readTrialList(resolve(dirname(file), raw.trialList), conditions);
   }
+  const generate = raw && typeof raw === 'object' ? (raw.generate as Record<string, unknown> | undefined) : undefined;
+  if (generate && typeof generate === 'object' && typeof generate.drawFile === 'string') generate.drawFile = readDrawFile(resolve(dirname(file), generate.drawFile));
   const s = validate(scenarioSchema, raw, file);
   if (overrides.observers !== undefined) s.generate.observers = overrides.observers;
   if (overrides.trials !== undefined) s.trials = overrides.trials.length === 1 ? overrides.trials[0] : overrides.trials;

@@ -8,10 +8,10 @@ import { closeSync, existsSync, fsyncSync, openSync, readFileSync, truncateSync,
 import type { JobLine } from '../analysis/types.js';
 import { UserError } from '../cli/userError.js';
 
-export function readJobLines(path: string): { lines: JobLine[]; truncatedBytes: number } {
+export function readJobLines<Line = JobLine>(path: string): { lines: Line[]; truncatedBytes: number } {
   if (!existsSync(path)) return { lines: [], truncatedBytes: 0 };
   const text = readFileSync(path, 'utf8');
-  const lines: JobLine[] = [];
+  const lines: Line[] = [];
   let good = 0;
   let pos = 0;
   while (pos < text.length) {
@@ -19,7 +19,7 @@ export function readJobLines(path: string): { lines: JobLine[]; truncatedBytes: 
     if (nl < 0) break; // no newline: the last line was cut short
     const chunk = text.slice(pos, nl);
     try {
-      lines.push(JSON.parse(chunk) as JobLine);
+      lines.push(JSON.parse(chunk) as Line);
     } catch {
       // Only the last line can be torn by a kill; damage before it is not ours to repair.
       if (nl + 1 < text.length) throw new UserError(`${path}, line ${lines.length + 1}: not a complete job record, and lines follow it; the file was edited or joined by hand (fix or remove that line, then --resume)`);
@@ -32,7 +32,7 @@ export function readJobLines(path: string): { lines: JobLine[]; truncatedBytes: 
   return { lines, truncatedBytes };
 }
 
-export class JobWriter {
+export class JobWriter<Line = JobLine> {
   private fd: number;
   constructor(readonly path: string) {
     if (existsSync(path)) {
@@ -41,7 +41,7 @@ export class JobWriter {
     }
     this.fd = openSync(path, 'a');
   }
-  append(line: JobLine): void {
+  append(line: Line): void {
     writeSync(this.fd, JSON.stringify(line) + '\n');
     fsyncSync(this.fd);
   }

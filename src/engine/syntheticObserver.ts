@@ -27,7 +27,7 @@ export function observerStream(study: ResolvedStudy, generating: string, observe
   return streamFromKey(`lossprobe/${study.scenario.seed}/gen=${generating}/obs=${observer}`);
 }
 
-/** True parameter values: the model's own values, overridden by the scenario's draws (sorted by name). */
+/** True parameter values: the model's own values, overridden by the scenario's draws (sorted by name), then by a resampled participant's fitted values when the scenario has a draw file. */
 export function drawTruth(study: ResolvedStudy, model: CandidateModel, rand: RandomStream): Record<string, number> {
   const values = { ...model.base };
   const draws = { ...study.scenario.generate.parameters, ...(study.scenario.generate.perModel[model.name] ?? {}) };
@@ -35,6 +35,15 @@ export function drawTruth(study: ResolvedStudy, model: CandidateModel, rand: Ran
     // Every listed draw consumes one uniform, whether or not the model has the parameter.
     const v = draw(draws[name], rand);
     if (name in values) values[name] = v;
+  }
+  // Resampled participants (generate.drawFile): one more uniform picks a row of this model.
+  const file = study.scenario.generate.drawFile;
+  if (file && typeof file !== 'string') {
+    const rows = file.values.filter((_, i) => file.model[i] === model.name);
+    if (rows.length) {
+      const row = rows[Math.min(rows.length - 1, Math.floor(rand() * rows.length))];
+      for (const [name, v] of Object.entries(row)) if (name in values) values[name] = v;
+    }
   }
   return values;
 }

@@ -62,13 +62,14 @@ export function studySummary(study: ResolvedStudy, lines: readonly JobLine[], to
   }) as unknown as StudySummary;
 }
 
-function csvCell(v: unknown): string {
+/** One CSV cell: numbers in their shortest round-trip form (String), non-finite as empty, text quoted when needed. */
+export function csvCell(v: unknown): string {
   if (v === null || v === undefined) return '';
   if (typeof v === 'number') return Number.isFinite(v) ? String(v) : '';
   const s = String(v);
   return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
-const csv = (header: string[], rows: unknown[][]) => [header.join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
+export const csv = (header: string[], rows: unknown[][]) => [header.join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
 
 /** One row per (job, candidate fit). */
 export function fitsCsv(lines: readonly JobLine[]): string {

@@ -51,8 +51,25 @@ export const scenarioSchema = z
         observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
         parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
         perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
+        drawFile: z
+          .union([
+            z.string().min(1).describe('CSV of fitted parameters (columns participant, model, then parameter names), e.g. from `lossprobe fit --draws-out`; path relative to the scenario file'),
+            z.strictObject({ model: z.array(z.string()), participant: z.array(z.string()), values: z.array(z.record(z.string(), z.number())) }),
+          ])
+          .optional()
+          .describe("resample participants' fitted parameter vectors for the synthetic observers (replaces the draws of the parameters it lists)"),
       })
       .prefault({}),
+    data: z
+      .strictObject({
+        participant: z.string().min(1).optional().describe("column of the participant id in `fit --data` files (default 'participant')"),
+        condition: z.string().min(1).optional().describe("column of the condition name (default 'condition')"),
+        stimulus: z.string().min(1).optional().describe("column of the stimulus value (default 'stimulus')"),
+        response: z.string().min(1).optional().describe("column of the response (default 'response')"),
+        minTrials: z.number().int().min(1).optional().describe('fewest trials a participant may have (default 20)'),
+      })
+      .optional()
+      .describe('how `fit` reads participants\' data files'),
     fitting: z
       .strictObject({
         criterion: z.enum(['aic', 'aicc', 'bic', 'cv']).default('bic'),

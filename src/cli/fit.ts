@@ -1,0 +1,233 @@
+/**
+ * `lossprobe fit SCENARIO --data FILE.csv`: every candidate fitted to every
+ * participant on the worker pool (resumable like `run`), then per participant
+ * the criteria, weights, estimates, predictive checks and decision, and at
+ * group level winner counts and random-effects model selection. Optional:
+ * reading winners against a recovery study, a parametric bootstrap, and a
+ * parameter-draw file for planning the main study from pilot data.
+ */
+import Table from 'cli-table3';
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { bootstrapSummaries, groupSummary, participantSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
+import type { BootstrapLine, ParticipantLine } from '../analysis/participantTypes.js';
+import { winnerAgainstRecovery, type RecoveryStudy, type WinnerAgainstRecovery } from '../analysis/recoveryLookup.js';
+import { compareJobKeys } from '../analysis/jobKeys.js';
+import { jsonSafe } from '../analysis/jsonSafe.js';
+import { DEFAULT_COLUMNS, readParticipantData, type DataColumns } from '../data/participantData.js';
+import { bootstrapKey, participantKey, toArrays, type BootstrapTask, type ParticipantTask } from '../engine/fitParticipant.js';
+import { runPool } from '../engine/pool.js';
+import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
+import { nestingOf } from '../fit/nesting.js';
+import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCsv, participantsCsv, predictiveChecksCsv } from '../report/fitOutputs.js';
+import { SUMMARY_VERSION } from '../report/studyOutputs.js';
+import { prepareRunFolder, workerCount, writeAtomically } from './run.js';
+import { UserError } from './userError.js';
+
+export interface FitFlags {
+  data?: string;
+  participantColumn?: string;
+  conditionColumn?: string;
+  stimulusColumn?: string;
+  responseColumn?: string;
+  minTrials?: string;
+  evidence?: string;
+  recovery?: string;
+  bootstrap?: string;
+  drawsOut?: string;
+  drawsParticipants?: string;
+  workers?: string;
+  out?: string;
+  resume?: boolean;
+  overwrite?: boolean;
+  json?: boolean;
+  quiet?: boolean;
+}
+
+export const CAUTION =
+  'A model comparison holds only under the candidate models\' assumptions; it complements, not replaces, a pilot study and the advice of your ethics board and statistician.';
+
+function wholeNumber(flag: string, v: string | undefined, min: number, max: number): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < min || n > max) throw new UserError(`--${flag} expects a whole number from ${min} to ${max} (got '${v}')`);
+  return n;
+}
+
+function readRecoveryStudy(folder: string, study: ResolvedStudy): RecoveryStudy {
+  const path = join(folder, 'summary.json');
+  let s: RecoveryStudy;
+  try {
+    s = JSON.parse(readFileSync(path, 'utf8')) as RecoveryStudy;
+  } catch {
+    throw new UserError(`--recovery: cannot read ${path}; give the run folder of a finished recovery study (lossprobe run)`);
+  }
+  if (!s || !Array.isArray(s.models) || !s.overall) throw new UserError(`--recovery: ${path} is not the summary of a recovery study`);
+  const models = study.candidates.map((c) => c.name);
+  if (s.models.join('\u0000') !== models.join('\u0000'))
+    throw new UserError(`--recovery: the study in ${folder} compared the models ${s.models.join(', ')}, but this scenario has ${models.join(', ')}; run the recovery study on the same scenario`);
+  return s;
+}
+
+function nestedPairs(study: ResolvedStudy): NestedPair[] {
+  const out: NestedPair[] = [];
+  for (const a of study.candidates)
+    for (const b of study.candidates) {
+      const n = nestingOf(a.lossFamily, b.lossFamily);
+      // The outer model contains the inner one only if its loss parameter is free to reach the nesting point.
+      const reaches = a.free.some((p) => p.name.startsWith('loss.'));
+      if (n && a !== b && reaches && n.outer === a.lossFamily && n.inner === b.lossFamily) out.push({ outer: a.name, inner: b.name, at: n.at });
+    }
+  return out;
+}
+
+export async function fitCommand(file: string, flags: FitFlags, toolVersion: string): Promise<void> {
+  if (!flags.data) throw new UserError('fit needs the participants\' data: --data FILE.csv');
+  const study = loadStudy(file);
+  const s = study.scenario;
+  const columns: DataColumns = {
+    participant: flags.participantColumn ?? s.data?.participant ?? DEFAULT_COLUMNS.participant,
+    condition: flags.conditionColumn ?? s.data?.condition ?? DEFAULT_COLUMNS.condition,
+    stimulus: flags.stimulusColumn ?? s.data?.stimulus ?? DEFAULT_COLUMNS.stimulus,
+    response: flags.responseColumn ?? s.data?.response ?? DEFAULT_COLUMNS.response,
+  };
+  const minTrials = wholeNumber('min-trials', flags.minTrials, 1, 1e6) ?? s.data?.minTrials ?? 20;
+  const evidence = (flags.evidence ?? (s.fitting.criterion === 'cv' ? 'cv' : 'bic')) as EvidenceSource;
+  if (evidence !== 'bic' && evidence !== 'cv') throw new UserError(`--evidence expects 'bic' (−BIC/2, the default) or 'cv' (cross-validated log-likelihood) (got '${flags.evidence}')`);
+  const replicates = wholeNumber('bootstrap', flags.bootstrap, 1, 10_000) ?? 0;
+  const workers = workerCount(flags.workers);
+  const recovery = flags.recovery ? readRecoveryStudy(flags.recovery, study) : null;
+  const participants = readParticipantData(flags.data, { columns, conditions: s.conditions.map((c) => c.name), lower: s.response.lower, upper: s.response.upper, minTrials });
+  const drawIds = flags.drawsParticipants?.split(',').map((x) => x.trim()).filter(Boolean);
+  for (const id of drawIds ?? []) if (!participants.some((p) => p.participant === id)) throw new UserError(`--draws-participants: no participant '${id}' in ${flags.data}`);
+
+  // The folder's identity: scenario, data and the settings that change job lines.
+  const hash = createHash('sha256')
+    .update(study.hash)
+    .update(JSON.stringify(participants.map((p) => [p.participant, toArrays(p.data)])))
+    .update(JSON.stringify({ evidence, replicates }))
+    .digest('hex');
+  const folder = flags.out ?? join('results', `${s.name}-fit`);
+  prepareRunFolder(folder, { hash, scenario: s }, flags);
+
+  const crossValidate = evidence === 'cv';
+  const tasks = participants.map((p) => {
+    const key = participantKey(p.participant);
+    const task: ParticipantTask = { kind: 'participant', scenario: s, hash: study.hash, key, participant: p.participant, trials: toArrays(p.data), crossValidate };
+    return { key, task };
+  });
+  const worker = new URL('../engine/fitWorker.js', import.meta.url);
+  const quiet = flags.quiet || flags.json;
+  const fitted = await runPool<ParticipantTask, ParticipantLine>({
+    path: join(folder, 'jobs.jsonl'),
+    worker,
+    jobs: tasks,
+    workers,
+    quiet,
+    failedLine: (key, message) => ({ key, participant: tasks.find((t) => t.key === key)!.task.participant, trials: 0, status: 'failed', error: message, fits: [], comparison: null, predictive: [] }),
+  });
+  interruptedExit(fitted.interrupted, folder);
+  const lines = [...fitted.lines].sort((a, b) => compareJobKeys(a.key, b.key));
+  const summaries = lines.map(participantSummary);
+
+  let bootstrapLines: BootstrapLine[] = [];
+  if (replicates > 0) {
+    const jobs: { key: string; task: BootstrapTask }[] = [];
+    for (const p of summaries) {
+      const data = participants.find((q) => q.participant === p.participant)!.data;
+      for (const source of [p.best, p.runnerUp]) {
+        if (!source) continue;
+        const model = study.candidates.find((c) => c.name === source)!;
+        const values = { ...model.base };
+        for (const q of p.models.find((m) => m.model === source)!.parameters) values[q.name] = q.estimate;
+        for (let r = 0; r < replicates; r++) {
+          const key = bootstrapKey(p.participant, source, r);
+          jobs.push({ key, task: { kind: 'bootstrap', scenario: s, hash: study.hash, key, participant: p.participant, source, replicate: r, values, trials: toArrays(data) } });
+        }
+      }
+    }
+    const boot = await runPool<BootstrapTask, BootstrapLine>({
+      path: join(folder, 'bootstrap.jsonl'),
+      worker,
+      jobs,
+      workers,
+      quiet,
+      failedLine: (key, message) => {
+        const t = jobs.find((j) => j.key === key)!.task;
+        return { key, participant: t.participant, source: t.source, replicate: t.replicate, status: 'failed', error: message, comparisonStatus: null, winner: null };
+      },
+    });
+    interruptedExit(boot.interrupted, folder);
+    bootstrapLines = boot.lines;
+  }
+
+  const candidates = study.candidates.map((c) => c.name);
+  const group = groupSummary(lines, s.fitting.criterion, { candidates, evidence, nested: nestedPairs(study) });
+  const bootstrap = bootstrapSummaries(bootstrapLines, new Map(summaries.map((p) => [p.participant, p.decision])));
+  const againstRecovery: WinnerAgainstRecovery[] = [];
+  if (recovery)
+    for (const p of summaries) {
+      if (!candidates.includes(p.decision)) continue;
+      const params = p.models.find((m) => m.model === p.decision)!.parameters;
+      const r = winnerAgainstRecovery(recovery, p.participant, p.decision, p.trials, params);
+      if (r) againstRecovery.push(r);
+    }
+  const summary = jsonSafe({
+    version: SUMMARY_VERSION,
+    kind: 'fit',
+    name: s.name,
+    models: candidates,
+    criterion: s.fitting.criterion,
+    dataFile: flags.data,
+    columns,
+    provenance: { tool: 'lossprobe', toolVersion, node: process.version, scenarioHash: study.hash, fitHash: hash },
+    caution: CAUTION,
+    group,
+    participants: summaries,
+    ...(recovery ? { againstRecovery: { folder: flags.recovery, participants: againstRecovery } } : {}),
+    ...(replicates > 0 ? { bootstrap: { replicatesPerModel: replicates, results: bootstrap } } : {}),
+  });
+  writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
+  writeAtomically(join(folder, 'model-fits.csv'), modelFitsCsv(summaries));
+  writeAtomically(join(folder, 'parameter-estimates.csv'), parameterEstimatesCsv(summaries));
+  writeAtomically(join(folder, 'participants.csv'), participantsCsv(summaries, againstRecovery, bootstrap));
+  writeAtomically(join(folder, 'group.csv'), groupCsv(group));
+  writeAtomically(join(folder, 'predictive-checks.csv'), predictiveChecksCsv(summaries));
+  if (replicates > 0) writeAtomically(join(folder, 'bootstrap.csv'), bootstrapCsv(bootstrap));
+  if (flags.drawsOut) {
+    const chosen = drawIds ? summaries.filter((p) => drawIds.includes(p.participant)) : summaries;
+    writeAtomically(flags.drawsOut, drawFileCsv(chosen));
+  }
+  if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
+  else printFit(summaries, group, againstRecovery, folder);
+}
+
+function interruptedExit(interrupted: boolean, folder: string): void {
+  if (!interrupted) return;
+  process.stderr.write(`lossprobe: interrupted; finished participants are kept in ${folder}. Continue with --resume.\n`);
+  process.exit(130);
+}
+
+const fixed = (x: number | null | undefined, d = 2) => (x === null || x === undefined || !Number.isFinite(x) ? '–' : x.toFixed(d));
+
+function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typeof groupSummary>, rec: WinnerAgainstRecovery[], folder: string): void {
+  console.log(`\nFitted ${ps.length} participant(s); criterion ${g.criterion.toUpperCase()}.`);
+  const t = new Table({ head: ['participant', 'trials', 'decision', 'runner-up', 'Δ runner-up', 'weight of best', ...(rec.length ? ['right in simulation'] : [])], style: { head: [], border: [] } });
+  const r = new Map(rec.map((x) => [x.participant, x]));
+  for (const p of ps) {
+    const runner = p.models.find((m) => m.model === p.runnerUp);
+    const best = p.models.find((m) => m.model === p.best);
+    t.push([p.participant, p.trials, p.decision, p.runnerUp ?? '–', fixed(runner?.differenceToBest), fixed(best?.weight), ...(rec.length ? [r.get(p.participant) ? `${fixed(r.get(p.participant)!.choiceRightInSimulation)} (at ${r.get(p.participant)!.recoveryTrials} trials)` : '–'] : [])]);
+  }
+  console.log(t.toString());
+  const re = g.randomEffects;
+  const gt = new Table({ head: ['model', 'participants won', ...(re ? ['expected frequency', 'exceedance', 'protected exceedance'] : [])], style: { head: [], border: [] } });
+  g.winnerCounts.forEach((w, i) => gt.push([w.model, w.participants, ...(re ? [fixed(re.expectedFrequency[i]), fixed(re.exceedanceProbability[i], 3), fixed(re.protectedExceedanceProbability[i], 3)] : [])]));
+  console.log(gt.toString());
+  console.log(`Undecided: ${g.undecided}; failed: ${g.failed}.`);
+  if (re) console.log(`Random-effects selection (Stephan et al. 2009; Rigoux et al. 2014) on ${re.logEvidenceDescription}; Bayesian omnibus risk ${fixed(re.bayesianOmnibusRisk, 3)}.`);
+  for (const w of g.warnings) console.log(`Warning: ${w}`);
+  console.log(`\n${CAUTION}`);
+  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv)`);
+}
