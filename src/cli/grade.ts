@@ -101,6 +101,12 @@ export function gradeCommand(truthPath: string, flags: GradeFlags, toolVersion: 
     const a = answers.get(p.participant);
     const base = { key: p.key, generating: p.generating, observer: p.observer, trials: p.trials, truth: p.truth, truthFree, attempts: 1 };
     if (!a) return { ...base, status: 'failed', error: 'no answer in the fits file', fits: [], comparison: null };
+    // Models the answer does not report still appear, without numbers, so the analysis reads the
+    // stored decision instead of deciding again from fits that are not there.
+    for (const c of study.candidates)
+      if (!a.fits.some((f) => f.model === c.name))
+        a.fits.push({ model: c.name, status: 'ok', reason: 'not reported in the fits file', logLikelihood: null, k: c.free.length, aic: null, aicc: null, bic: null, parameters: [], flatDirection: false, evaluations: 0 });
+    a.fits.sort((x, y) => study.candidates.findIndex((c) => c.name === x.model) - study.candidates.findIndex((c) => c.name === y.model));
     const status = a.failed ? 'failed' : a.chosen.length === 1 ? 'won' : 'undecided';
     return { ...base, status: 'ok', fits: a.fits, comparison: { criterion, status, winner: status === 'won' ? a.chosen[0] : null, contenders: status === 'won' ? a.chosen : [], delta: {}, weight: {} } };
   });

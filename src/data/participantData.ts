@@ -100,13 +100,13 @@ export function readParticipantData(path: string, rules: DataRules): Participant
     const stimulus = parseDecimal(cells[columns.stimulus]);
     if (stimulus === null) problems.push(`line ${line}: stimulus '${cells[columns.stimulus] ?? ''}' is not a number`);
     const response = parseDecimal(cells[columns.response]);
+    const inRange = response !== null && response >= rules.lower && response <= rules.upper;
     if (response === null) problems.push(`line ${line}: response '${cells[columns.response] ?? ''}' is not a number`);
-    else if (response < rules.lower || response > rules.upper)
-      problems.push(`line ${line}: response ${response} lies outside the response range [${rules.lower}, ${rules.upper}] of the scenario`);
+    else if (!inRange) problems.push(`line ${line}: response ${response} lies outside the response range [${rules.lower}, ${rules.upper}] of the scenario`);
     const conditionName = header.includes(columns.condition) ? cells[columns.condition] ?? '' : rules.conditions[0];
     const condition = rules.conditions.indexOf(conditionName);
     if (condition < 0) problems.push(`line ${line}: unknown condition '${conditionName}' (the scenario has: ${rules.conditions.join(', ')})`);
-    if (id === '' || stimulus === null || response === null || condition < 0) continue;
+    if (id === '' || stimulus === null || response === null || !inRange || condition < 0) continue;
     const p = byParticipant.get(id) ?? { stimulus: [], condition: [], response: [], firstLine: line };
     p.stimulus.push(stimulus);
     p.condition.push(condition);
