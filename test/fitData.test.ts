@@ -83,7 +83,9 @@ describe('reading participants\' data', () => {
       'B,far,1,2', // B has one trial: too few
     ].join('\n');
     const msg = errorOf(() => readParticipantData(file(text), RULES));
-    expect(msg).toMatch(/has 7 problems/);
+    // A keeps only line 2 (every other row of A is bad), so A is short of trials too.
+    expect(msg).toMatch(/has 8 problems/);
+    expect(msg).toMatch(/participant 'A' \(first seen on line 2\) has 1 valid trial/);
     expect(msg).toMatch(/line 3: stimulus 'abc' is not a number/);
     expect(msg).toMatch(/line 4: response '' is not a number/);
     expect(msg).toMatch(/line 5: response 120 lies outside the response range \[0, 100\]/);
