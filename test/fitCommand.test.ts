@@ -126,6 +126,7 @@ describe('fit outputs', () => {
     // The asymmetric model's level is fixed in this scenario, so it does not contain the absolute model: no nesting warning.
     expect(s.group.warnings.join(' ')).not.toMatch(/contains/);
     for (const f of ['model-fits.csv', 'parameter-estimates.csv', 'participants.csv', 'group.csv', 'predictive-checks.csv']) expect(exists(join(fitted, f))).toBe(true);
+    expect(readText(join(fitted, 'figures', 'predictive-s0001.svg'))).toMatch(/^<svg[\s\S]*squared[\s\S]*<\/svg>$/);
   });
 
   it('a fit killed after 4 participants and resumed equals the uninterrupted fit', () => {

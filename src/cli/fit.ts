@@ -8,7 +8,7 @@
  */
 import Table from 'cli-table3';
 import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
+import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { bootstrapSummaries, groupSummary, participantSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
 import type { BootstrapLine, ParticipantLine } from '../analysis/participantTypes.js';
@@ -22,6 +22,7 @@ import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
 import { nestingOf } from '../fit/nesting.js';
 import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCsv, participantsCsv, predictiveChecksCsv } from '../report/fitOutputs.js';
 import { SUMMARY_VERSION } from '../report/studyOutputs.js';
+import { figureName, predictiveFigure } from '../report/fitFigures.js';
 import { prepareRunFolder, workerCount, writeAtomically } from './run.js';
 import { UserError } from './userError.js';
 
@@ -195,6 +196,11 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
   writeAtomically(join(folder, 'group.csv'), groupCsv(group));
   writeAtomically(join(folder, 'predictive-checks.csv'), predictiveChecksCsv(summaries));
   if (replicates > 0) writeAtomically(join(folder, 'bootstrap.csv'), bootstrapCsv(bootstrap));
+  mkdirSync(join(folder, 'figures'), { recursive: true });
+  for (const p of summaries) {
+    const svg = await predictiveFigure(p);
+    if (svg) writeAtomically(join(folder, 'figures', figureName(p.participant)), svg);
+  }
   if (flags.drawsOut) {
     const chosen = drawIds ? summaries.filter((p) => drawIds.includes(p.participant)) : summaries;
     writeAtomically(flags.drawsOut, drawFileCsv(chosen));
@@ -229,5 +235,5 @@ function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typ
   if (re) console.log(`Random-effects selection (Stephan et al. 2009; Rigoux et al. 2014) on ${re.logEvidenceDescription}; Bayesian omnibus risk ${fixed(re.bayesianOmnibusRisk, 3)}.`);
   for (const w of g.warnings) console.log(`Warning: ${w}`);
   console.log(`\n${CAUTION}`);
-  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv)`);
+  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv, figures/predictive-*.svg)`);
 }
