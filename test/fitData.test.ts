@@ -204,3 +204,22 @@ describe('recovery lookup', () => {
     expect(r.parameters[0].inStudiedRange).toBeNull();
   });
 });
+
+describe('a participant job with cross-validated evidence', () => {
+  it('adds the cross-validated log-likelihood to every fit, and group selection uses it', async () => {
+    const { loadStudy } = await import('../src/engine/resolve.js');
+    const { syntheticDataset, prefix } = await import('../src/engine/syntheticObserver.js');
+    const { fitParticipant, toArrays, participantKey } = await import('../src/engine/fitParticipant.js');
+    const study = loadStudy(join(process.cwd(), 'test', 'fixtures', 'tiny-study.yaml'));
+    const data = prefix(syntheticDataset(study, 'asymmetric', 0).full, 60);
+    const l = fitParticipant(study, { kind: 'participant', scenario: study.scenario, hash: study.hash, key: participantKey('p/1'), participant: 'p/1', trials: toArrays(data), crossValidate: true });
+    expect(l.key).toBe('participant=p%2F1');
+    for (const f of l.fits) {
+      expect(f.cvLogLikelihood).toBeLessThan(f.logLikelihood!); // held-out fit is worse than in-sample
+      expect(f.cvLogLikelihood).toBeGreaterThan(f.logLikelihood! - 60); // but not absurdly so on 60 trials
+    }
+    const g = groupSummary([l], 'bic', { candidates: ['squared', 'absolute', 'asymmetric'], evidence: 'cv', nested: [] });
+    expect(g.randomEffects!.participantsUsed).toBe(1);
+    expect(l.predictive).toHaveLength(3);
+  }, 120_000);
+});

@@ -8,8 +8,8 @@
  */
 import Table from 'cli-table3';
 import { createHash } from 'node:crypto';
-import { mkdirSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { dirname, join, resolve as resolvePath } from 'node:path';
 import { bootstrapSummaries, groupSummary, participantSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
 import type { BootstrapLine, ParticipantLine } from '../analysis/participantTypes.js';
 import { winnerAgainstRecovery, type RecoveryStudy, type WinnerAgainstRecovery } from '../analysis/recoveryLookup.js';
@@ -100,6 +100,8 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
   const workers = workerCount(flags.workers);
   const recovery = flags.recovery ? readRecoveryStudy(flags.recovery, study) : null;
   const participants = readParticipantData(flags.data, { columns, conditions: s.conditions.map((c) => c.name), lower: s.response.lower, upper: s.response.upper, minTrials });
+  if (flags.drawsOut && !existsSync(dirname(resolvePath(flags.drawsOut)))) throw new UserError(`--draws-out: the folder of '${flags.drawsOut}' does not exist`);
+  if (flags.drawsParticipants && !flags.drawsOut) throw new UserError('--draws-participants needs --draws-out FILE');
   const drawIds = flags.drawsParticipants?.split(',').map((x) => x.trim()).filter(Boolean);
   for (const id of drawIds ?? []) if (!participants.some((p) => p.participant === id)) throw new UserError(`--draws-participants: no participant '${id}' in ${flags.data}`);
 

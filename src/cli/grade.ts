@@ -46,6 +46,7 @@ export function gradeCommand(truthPath: string, flags: GradeFlags, toolVersion: 
   const truth = parseTruthFile(json);
   if (typeof truth === 'string') throw new UserError(`${truthPath}: ${truth}`);
   const study = resolveStudy(truth.scenario, truthPath);
+  if (study.hash !== truth.hash) throw new UserError(`${truthPath}: its scenario no longer matches its recorded hash (the file was edited); export again`);
   const models = new Map(study.candidates.map((c) => [c.name, c]));
   const { header, rows } = readCsvRows(flags.fits, 'fits file');
   for (const c of ['participant', 'model']) if (!header.includes(c)) throw new UserError(`${flags.fits}: the header must name a '${c}' column (found: ${header.join(', ') || 'nothing'})`);
