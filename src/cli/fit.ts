@@ -23,10 +23,10 @@ import { nestingOf } from '../fit/nesting.js';
 import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCsv, participantsCsv, predictiveChecksCsv } from '../report/fitOutputs.js';
 import { SUMMARY_VERSION } from '../report/studyOutputs.js';
 import { figureName, predictiveFigure } from '../report/fitFigures.js';
-import { prepareRunFolder, workerCount, writeAtomically } from './run.js';
+import { prepareRunFolder, workerCount, writeAtomically, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
-export interface FitFlags {
+export interface FitFlags extends Pick<RunFlags, 'workers' | 'out' | 'resume' | 'overwrite' | 'json' | 'quiet'> {
   data?: string;
   participantColumn?: string;
   conditionColumn?: string;
@@ -38,12 +38,6 @@ export interface FitFlags {
   bootstrap?: string;
   drawsOut?: string;
   drawsParticipants?: string;
-  workers?: string;
-  out?: string;
-  resume?: boolean;
-  overwrite?: boolean;
-  json?: boolean;
-  quiet?: boolean;
 }
 
 export const CAUTION =
