@@ -7,6 +7,7 @@
  * trial count.
  */
 import { describe, it, expect, afterAll } from 'vitest';
+import fc from 'fast-check';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -122,6 +123,22 @@ describe('predictive check', () => {
   it('quantiles match R quantile(1:10, type = 7) (from memory: 1.9, 3.25, 5.5, 7.75, 9.1)', () => {
     const x = Float64Array.from({ length: 10 }, (_, i) => i + 1);
     expect([0.1, 0.25, 0.5, 0.75, 0.9].map((p) => quantileSorted(x, p))).toEqual([1.9, 3.25, 5.5, 7.75, 9.1].map((v, i) => expect.closeTo(v, 12) as unknown as number));
+  });
+
+  it('property: KS distance lies in [0, 1], is symmetric, and is unchanged by a strictly increasing transform', () => {
+    // Whole numbers: many ties, and exp keeps them strictly ordered in floating point.
+    const sample = fc.array(fc.integer({ min: -20, max: 20 }), { minLength: 1, maxLength: 30 });
+    fc.assert(
+      fc.property(sample, sample, (a, b) => {
+        const d = ksDistance(a, b);
+        expect(d).toBeGreaterThanOrEqual(0);
+        expect(d).toBeLessThanOrEqual(1);
+        expect(ksDistance(b, a)).toBe(d);
+        // The statistic depends only on ranks (Smirnov 1939): exp is strictly increasing.
+        expect(ksDistance(a.map(Math.exp), b.map(Math.exp))).toBeCloseTo(d, 12);
+      }),
+      { seed: 20261202, numRuns: 200 },
+    );
   });
 
   it('critical value 1.358·√((n+m)/(nm)) (Massey 1951, from memory)', () => {

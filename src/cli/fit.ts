@@ -10,7 +10,7 @@ import Table from 'cli-table3';
 import { createHash } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve as resolvePath } from 'node:path';
-import { bootstrapSummaries, groupSummary, participantSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
+import { bootstrapSummaries, groupSummary, participantSummary, type BootstrapSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
 import type { BootstrapLine, ParticipantLine } from '../analysis/participantTypes.js';
 import { winnerAgainstRecovery, type RecoveryStudy, type WinnerAgainstRecovery } from '../analysis/recoveryLookup.js';
 import { compareJobKeys } from '../analysis/jobKeys.js';
@@ -202,7 +202,7 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     writeAtomically(flags.drawsOut, drawFileCsv(chosen));
   }
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printFit(summaries, group, againstRecovery, folder);
+  else printFit(summaries, group, againstRecovery, bootstrap, folder);
 }
 
 function interruptedExit(interrupted: boolean, folder: string): void {
@@ -211,16 +211,21 @@ function interruptedExit(interrupted: boolean, folder: string): void {
   process.exit(130);
 }
 
+function bootCell(boot: BootstrapSummary[], participant: string, best: string | null): string {
+  const b = boot.find((x) => x.participant === participant && x.source === best);
+  return b && b.choseSource !== null ? `${Math.round(100 * b.choseSource)}% of ${b.replicates - b.failed}` : '–';
+}
+
 const fixed = (x: number | null | undefined, d = 2) => (x === null || x === undefined || !Number.isFinite(x) ? '–' : x.toFixed(d));
 
-function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typeof groupSummary>, rec: WinnerAgainstRecovery[], folder: string): void {
+function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typeof groupSummary>, rec: WinnerAgainstRecovery[], boot: BootstrapSummary[], folder: string): void {
   console.log(`\nFitted ${ps.length} participant(s); criterion ${g.criterion.toUpperCase()}.`);
-  const t = new Table({ head: ['participant', 'trials', 'decision', 'runner-up', 'Δ runner-up', 'weight of best', ...(rec.length ? ['right in simulation'] : [])], style: { head: [], border: [] } });
+  const t = new Table({ head: ['participant', 'trials', 'decision', 'runner-up', 'Δ runner-up', 'weight of best', ...(rec.length ? ['right in simulation'] : []), ...(boot.length ? ['bootstrap: same choice'] : [])], style: { head: [], border: [] } });
   const r = new Map(rec.map((x) => [x.participant, x]));
   for (const p of ps) {
     const runner = p.models.find((m) => m.model === p.runnerUp);
     const best = p.models.find((m) => m.model === p.best);
-    t.push([p.participant, p.trials, p.decision, p.runnerUp ?? '–', fixed(runner?.differenceToBest), fixed(best?.weight), ...(rec.length ? [r.get(p.participant) ? `${fixed(r.get(p.participant)!.choiceRightInSimulation)} (at ${r.get(p.participant)!.recoveryTrials} trials)` : '–'] : [])]);
+    t.push([p.participant, p.trials, p.decision, p.runnerUp ?? '–', fixed(runner?.differenceToBest), fixed(best?.weight), ...(rec.length ? [r.get(p.participant) ? `${fixed(r.get(p.participant)!.choiceRightInSimulation)} (at ${r.get(p.participant)!.recoveryTrials} trials)` : '–'] : []), ...(boot.length ? [bootCell(boot, p.participant, p.best)] : [])]);
   }
   console.log(t.toString());
   const re = g.randomEffects;
