@@ -33,3 +33,4 @@ export { simulateResponses } from './observer/sampler.js';
 export { closedFormEstimate, evaluateClosedForm, gaussianPosterior } from './observer/closedForm.js';
 export { streamFromKey, type RandomStream } from './numerics/rng.js';
 export { nelderMead, bfgs } from './numerics/optimize.js';
+export { randomEffectsSelection, exceedanceProbabilities, type RandomEffectsOptions, type RandomEffectsSelection } from './analysis/randomEffects.js';
