@@ -166,6 +166,7 @@ describe('recovery reading, bootstrap and draw files', () => {
     expect(r.status, r.stderr).toBe(0);
     const s = readJson<Record<string, any>>(join(out, 'summary.json'));
     expect(s.againstRecovery.participants).toHaveLength(2);
+    expect(s.againstRecovery.note).toMatch(/exactly this scenario/);
     for (const a of s.againstRecovery.participants) {
       expect(a.recoveryTrials).toBe(120);
       expect(a.trialNote).toMatch(/exactly 120 trials/);

@@ -65,6 +65,14 @@ function readRecoveryStudy(folder: string, study: ResolvedStudy): RecoveryStudy 
   return s;
 }
 
+/** Whether the recovery study ran on exactly this scenario (same resolved hash) or only on the same candidate set. */
+function recoveryNote(r: RecoveryStudy, study: ResolvedStudy): string {
+  const hash = (r as { provenance?: { scenarioHash?: string } }).provenance?.scenarioHash;
+  return hash === study.hash
+    ? 'the recovery study ran on exactly this scenario'
+    : 'the recovery study ran on a different version of this scenario (same candidate models, other settings: its hash differs); its figures apply only as far as the designs agree';
+}
+
 function nestedPairs(study: ResolvedStudy): NestedPair[] {
   const out: NestedPair[] = [];
   for (const a of study.candidates)
@@ -182,7 +190,7 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     caution: CAUTION,
     group,
     participants: summaries,
-    ...(recovery ? { againstRecovery: { folder: flags.recovery, participants: againstRecovery } } : {}),
+    ...(recovery ? { againstRecovery: { folder: flags.recovery, note: recoveryNote(recovery, study), participants: againstRecovery } } : {}),
     ...(replicates > 0 ? { bootstrap: { replicatesPerModel: replicates, results: bootstrap } } : {}),
   });
   writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
@@ -202,7 +210,7 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     writeAtomically(flags.drawsOut, drawFileCsv(chosen));
   }
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printFit(summaries, group, againstRecovery, bootstrap, folder);
+  else printFit(summaries, group, againstRecovery, bootstrap, recovery ? recoveryNote(recovery, study) : null, folder);
 }
 
 function interruptedExit(interrupted: boolean, folder: string): void {
@@ -218,7 +226,7 @@ function bootCell(boot: BootstrapSummary[], participant: string, best: string | 
 
 const fixed = (x: number | null | undefined, d = 2) => (x === null || x === undefined || !Number.isFinite(x) ? '–' : x.toFixed(d));
 
-function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typeof groupSummary>, rec: WinnerAgainstRecovery[], boot: BootstrapSummary[], folder: string): void {
+function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typeof groupSummary>, rec: WinnerAgainstRecovery[], boot: BootstrapSummary[], recNote: string | null, folder: string): void {
   console.log(`\nFitted ${ps.length} participant(s); criterion ${g.criterion.toUpperCase()}.`);
   const t = new Table({ head: ['participant', 'trials', 'decision', 'runner-up', 'Δ runner-up', 'weight of best', ...(rec.length ? ['right in simulation'] : []), ...(boot.length ? ['bootstrap: same choice'] : [])], style: { head: [], border: [] } });
   const r = new Map(rec.map((x) => [x.participant, x]));
@@ -235,6 +243,7 @@ function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typ
   console.log(`Undecided: ${g.undecided}; failed: ${g.failed}.`);
   if (re) console.log(`Random-effects selection (Stephan et al. 2009; Rigoux et al. 2014) on ${re.logEvidenceDescription}; Bayesian omnibus risk ${fixed(re.bayesianOmnibusRisk, 3)}.`);
   for (const w of g.warnings) console.log(`Warning: ${w}`);
+  if (recNote) console.log(`Recovery study: ${recNote}.`);
   console.log(`\n${CAUTION}`);
   console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv, figures/predictive-*.svg)`);
 }
