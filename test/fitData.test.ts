@@ -240,3 +240,27 @@ describe('a participant job with cross-validated evidence', () => {
     expect(l.predictive).toHaveLength(3);
   }, 120_000);
 });
+
+describe('predictive checks per condition', () => {
+  it('a design with two conditions gets one check over all trials and one per condition, per model', async () => {
+    const { readFileSync } = await import('node:fs');
+    const { parse } = await import('yaml');
+    const { scenarioSchema } = await import('../src/scenario/schema.js');
+    const { resolveStudy } = await import('../src/engine/resolve.js');
+    const { syntheticDataset, prefix } = await import('../src/engine/syntheticObserver.js');
+    const { fitParticipant, toArrays } = await import('../src/engine/fitParticipant.js');
+    const doc = parse(readFileSync(join(process.cwd(), 'test', 'fixtures', 'tiny-study.yaml'), 'utf8'));
+    doc.conditions.push({ name: 'dim', noise: { family: 'constant', sd: 14 } });
+    const study = resolveStudy(scenarioSchema.parse(doc), 'two-condition test');
+    const data = prefix(syntheticDataset(study, 'squared', 0).full, 40);
+    const l = fitParticipant(study, { kind: 'participant', scenario: study.scenario, hash: study.hash, key: 'participant=x', participant: 'x', trials: toArrays(data), crossValidate: false });
+    expect(l.predictive.map((c) => `${c.model}/${c.condition ?? 'all'}`)).toEqual(
+      ['squared', 'absolute', 'asymmetric'].flatMap((m) => [`${m}/all`, `${m}/flash`, `${m}/dim`]),
+    );
+    const s = participantSummary(l);
+    expect(s.models[0].predictiveCheck!.condition).toBeNull();
+    expect(s.models[0].predictiveByCondition.map((c) => c.condition)).toEqual(['flash', 'dim']);
+    // 20 trials per condition: the critical value is 1.358·√((20 + 400)/(20·400)).
+    expect(s.models[0].predictiveByCondition[0].ksCritical5Percent).toBeCloseTo(1.358 * Math.sqrt(420 / 8000), 12);
+  }, 120_000);
+});

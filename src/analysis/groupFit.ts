@@ -54,7 +54,10 @@ export interface ModelFitSummary {
   /** Akaike/Schwarz weight exp(−Δ/2)/Σ exp(−Δ/2). */
   weight: number | null;
   parameters: { name: string; estimate: number; standardError: number | null; lower95: number | null; upper95: number | null; atBound: boolean }[];
+  /** All trials together. */
   predictiveCheck: PredictiveCheck | null;
+  /** One check per condition (designs with several conditions). */
+  predictiveByCondition: PredictiveCheck[];
 }
 
 export interface ParticipantSummary {
@@ -157,7 +160,8 @@ export function participantSummary(line: ParticipantLine): ParticipantSummary {
         upper95: isFiniteNumber(p.upper95) ? p.upper95 : null,
         atBound: p.atBound,
       })),
-      predictiveCheck: line.predictive.find((c) => c.model === f.model) ?? null,
+      predictiveCheck: line.predictive.find((c) => c.model === f.model && c.condition === null) ?? null,
+      predictiveByCondition: line.predictive.filter((c) => c.model === f.model && c.condition !== null),
     })),
   };
 }

@@ -13,6 +13,8 @@ export const CHECK_PROBABILITIES = [0.1, 0.25, 0.5, 0.75, 0.9] as const;
 
 export interface PredictiveCheck {
   model: string;
+  /** The condition whose trials are compared; null for all trials together. */
+  condition: string | null;
   /** Simulated datasets pooled into the simulated distribution. */
   replicates: number;
   /** Two-sample Kolmogorov–Smirnov distance between observed and simulated errors. */
@@ -50,13 +52,14 @@ export function ksDistance(a: ArrayLike<number>, b: ArrayLike<number>): number {
   return d;
 }
 
-export function predictiveCheck(model: string, observedErrors: ArrayLike<number>, simulatedErrors: ArrayLike<number>, replicates: number): PredictiveCheck {
+export function predictiveCheck(model: string, observedErrors: ArrayLike<number>, simulatedErrors: ArrayLike<number>, replicates: number, condition: string | null = null): PredictiveCheck {
   const n = observedErrors.length;
   const m = simulatedErrors.length;
   const obs = Float64Array.from(observedErrors).sort();
   const sim = Float64Array.from(simulatedErrors).sort();
   return {
     model,
+    condition,
     replicates,
     ksDistance: ksDistance(obs, sim),
     ksCritical5Percent: 1.358 * Math.sqrt((n + m) / (n * m)),

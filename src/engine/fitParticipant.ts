@@ -78,9 +78,10 @@ export function fitParticipant(study: ResolvedStudy, task: ParticipantTask): Par
   const { fits, comparison } = fitDataset(study, data, task.crossValidate);
   const observed = data.response.map((r, t) => r - data.stimulus[t]);
   const digest = datasetDigest(data);
+  const conditions = study.scenario.conditions.map((c) => c.name);
   const predictive = fits
     .filter((f) => f.status === 'ok')
-    .map((f) => {
+    .flatMap((f) => {
       const model = study.candidates.find((c) => c.name === f.model)!;
       const values = { ...model.base };
       for (const p of f.parameters) values[p.name] = p.value;
@@ -88,7 +89,15 @@ export function fitParticipant(study: ResolvedStudy, task: ParticipantTask): Par
       const { stimulus, condition } = repeated(data, PREDICTIVE_REPLICATES);
       const sim = simulateResponses(observerFromValues(model, values), stimulus, condition, rand);
       const simulated = sim.response.map((r, t) => r - stimulus[t]);
-      return predictiveCheck(f.model, observed, simulated, PREDICTIVE_REPLICATES);
+      const checks = [predictiveCheck(f.model, observed, simulated, PREDICTIVE_REPLICATES)];
+      // Per condition too when there are several: pooling noise levels can hide a misfit in one of them.
+      if (conditions.length > 1)
+        conditions.forEach((name, c) => {
+          const obs = observed.filter((_, t) => data.condition[t] === c);
+          const sims = simulated.filter((_, t) => condition[t] === c);
+          if (obs.length && sims.length) checks.push(predictiveCheck(f.model, obs, sims, PREDICTIVE_REPLICATES, name));
+        });
+      return checks;
     });
   return { key: task.key, participant: task.participant, trials: data.stimulus.length, status: 'ok', fits, comparison, predictive };
 }

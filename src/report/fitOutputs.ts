@@ -55,15 +55,14 @@ export function groupCsv(g: GroupSummary): string {
   return csv(['model', 'participants_won', 'expected_frequency', 'exceedance_probability', 'protected_exceedance_probability', 'bayesian_omnibus_risk', 'log_evidence'], rows);
 }
 
-/** One row per (participant, model, probability): observed and simulated response-error quantiles. */
+/** One row per (participant, model, condition or 'all', probability): observed and simulated response-error quantiles. */
 export function predictiveChecksCsv(ps: readonly ParticipantSummary[]): string {
   const rows: unknown[][] = [];
   for (const p of ps)
-    for (const m of p.models) {
-      const c = m.predictiveCheck;
-      if (c) CHECK_PROBABILITIES.forEach((q, i) => rows.push([p.participant, m.model, q, c.observedErrorQuantiles[i], c.simulatedErrorQuantiles[i], c.ksDistance, c.ksCritical5Percent]));
-    }
-  return csv(['participant', 'model', 'probability', 'observed_error_quantile', 'simulated_error_quantile', 'ks_distance', 'ks_critical_5_percent'], rows);
+    for (const m of p.models)
+      for (const c of [...(m.predictiveCheck ? [m.predictiveCheck] : []), ...m.predictiveByCondition])
+        CHECK_PROBABILITIES.forEach((q, i) => rows.push([p.participant, m.model, c.condition ?? 'all', q, c.observedErrorQuantiles[i], c.simulatedErrorQuantiles[i], c.ksDistance, c.ksCritical5Percent]));
+  return csv(['participant', 'model', 'condition', 'probability', 'observed_error_quantile', 'simulated_error_quantile', 'ks_distance', 'ks_critical_5_percent'], rows);
 }
 
 /** Parameter-draw file for a scenario's generate.drawFile: one row per (participant, model) with an ok fit. */
