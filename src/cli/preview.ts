@@ -74,6 +74,14 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
   const source = file ?? 'command line';
   const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
   const s = validate(scenarioSchema, raw, source);
+  const { measurements, estimates, files } = await previewScenario(s, source);
+  const folder = o.out ?? join('results', `${s.name}-preview`);
+  writeFolderAtomically(folder, files);
+  return { scenario: s, measurements, estimates, folder };
+}
+
+/** The preview's tables and files (loss shapes, estimate curves, estimates.csv) for a validated scenario; writes nothing. */
+export async function previewScenario(s: Scenario, source: string): Promise<Omit<PreviewResult, 'scenario' | 'folder'> & { files: Record<string, string> }> {
   // The same construction as a recovery study's candidates, at their scenario values.
   const observers = candidatesOf(s, source).map((c) => {
     const obs = observerFromValues(c, c.base);
@@ -129,9 +137,7 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
     ...curveFiles,
     'estimates.csv': csv.join('\n') + '\n',
   };
-  const folder = o.out ?? join('results', `${s.name}-preview`);
-  writeFolderAtomically(folder, files);
-  return { scenario: s, measurements, estimates, folder };
+  return { measurements, estimates, files };
 }
 
 export function printPreview(r: PreviewResult): void {

@@ -44,7 +44,7 @@ export async function lineChart(opts: { title: string; xTitle: string; yTitle: s
         x: { field: 'x', type: 'quantitative', title: opts.xTitle, scale: { zero: false } },
         y: { field: 'y', type: 'quantitative', title: opts.yTitle, scale: { zero: false } },
         color: { field: 'series', type: 'nominal', title: null, sort: opts.series.map((s) => s.name) },
-        strokeDash: { field: 'series', type: 'nominal', legend: null, sort: opts.series.map((s) => s.name) },
+        strokeDash: { field: 'series', type: 'nominal', title: null, sort: opts.series.map((s) => s.name) },
       },
     },
   ];

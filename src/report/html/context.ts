@@ -1,0 +1,81 @@
+/**
+ * The toolkit every section writes with. Numbers are never formatted by
+ * hand: `num(path, style)` looks the value up in the embedded data and
+ * prints it through the one formatter, marking the span with its data path
+ * so a test (or a curious reader) can trace every number to its raw value.
+ */
+import { formatNumber, type NumberStyle } from '../format.js';
+import type { EmbeddedData, ReportData } from './data.js';
+
+export type DataPath = readonly (string | number)[];
+
+export interface Figure {
+  /** File name under figures/, e.g. "confusion.svg". */
+  file: string;
+  svg: string;
+}
+
+export const escapeHtml = (s: string) => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&#39;');
+
+export function lookup(root: unknown, path: DataPath): unknown {
+  let v: unknown = root;
+  for (const k of path) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<string | number, unknown>)[k];
+  }
+  return v;
+}
+
+export class ReportContext {
+  readonly figures: Figure[] = [];
+  constructor(
+    readonly data: ReportData,
+    readonly embedded: EmbeddedData,
+  ) {}
+
+  /** The raw number at `path` (null stays null); a path that leads elsewhere is a programming error. */
+  value(path: DataPath): number | null {
+    const v = lookup(this.embedded, path);
+    if (v === null || typeof v === 'number') return v;
+    throw new Error(`report: no number at ${JSON.stringify(path)} (found ${typeof v})`);
+  }
+
+  /** A displayed number: the raw value at `path` through the one formatter, traceable by its data path. */
+  num(path: DataPath, style: NumberStyle): string {
+    const text = formatNumber(this.value(path), style);
+    return `<span class="num" data-style="${style}" data-path="${escapeHtml(JSON.stringify(path))}">${escapeHtml(text)}</span>`;
+  }
+
+  /** A string from the data (a version, a hash), traceable like a number. */
+  text(path: DataPath): string {
+    const v = lookup(this.embedded, path);
+    if (typeof v !== 'string') throw new Error(`report: no text at ${JSON.stringify(path)} (found ${typeof v})`);
+    return `<span class="raw" data-path="${escapeHtml(JSON.stringify(path))}">${escapeHtml(v)}</span>`;
+  }
+
+  /** A name chosen by the user (model, parameter, condition): escaped and kept apart from numbers. */
+  name(s: string): string {
+    return `<span class="name">${escapeHtml(s)}</span>`;
+  }
+
+  /** Register a figure file and return it inline, with its caption. */
+  figure(file: string, svg: string, caption: string, alt: string): string {
+    this.figures.push({ file, svg });
+    return `<figure class="fig" data-file="figures/${escapeHtml(file)}"><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
+  }
+}
+
+/**
+ * Vega numbers clip paths from a process-wide counter ("clip1", "clip2", …);
+ * inline SVGs share one id space, so each figure's ids get its file name as
+ * a prefix (the saved files keep theirs: each stands alone).
+ */
+export function scopeIds(svg: string, file: string): string {
+  const prefix = file.replace(/[^A-Za-z0-9_-]/g, '_') + '-';
+  return svg.replace(/\bid="([^"]+)"/g, `id="${prefix}$1"`).replace(/url\(#([^)]+)\)/g, `url(#${prefix}$1)`).replace(/href="#([^"]+)"/g, `href="#${prefix}$1"`);
+}
+
+/** A safe file-name piece from a user-chosen name. */
+export function slug(s: string): string {
+  return s.replace(/[^A-Za-z0-9.-]+/g, '-').replace(/^-+|-+$/g, '') || 'x';
+}
