@@ -45,19 +45,21 @@ export interface HeatCell {
 }
 
 export async function heatmap(opts: { title: string; subtitle?: string; rows: string[]; columns: string[]; rowTitle: string; columnTitle: string; cells: HeatCell[]; cell?: number }): Promise<string> {
-  const size = opts.cell ?? 58;
+  const longest = Math.max(...opts.columns.map((c) => c.length));
+  // Wide enough for horizontal column labels up to about 13 characters; longer names are slanted.
+  const slant = longest > 13;
+  const size = opts.cell ?? (slant ? 60 : Math.max(58, Math.min(92, longest * 6.6 + 14)));
   const values = opts.cells.map((c) => {
     const fill = cellFill(c.value, c.ramp);
     return { row: c.row, column: c.column, label: c.label, fill, ink: textOn(fill) };
   });
-  const longest = Math.max(...opts.columns.map((c) => c.length));
   return renderSvg({
     title: opts.subtitle ? { text: opts.title, subtitle: opts.subtitle, subtitleColor: '#555555', subtitleFontSize: 11 } : opts.title,
     width: size * opts.columns.length,
     height: size * 0.72 * opts.rows.length,
     data: { values },
     encoding: {
-      x: { field: 'column', type: 'nominal', sort: opts.columns, title: opts.columnTitle, axis: { orient: 'top', labelAngle: longest > 9 ? -35 : 0, labelAlign: longest > 9 ? 'left' : 'center', domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
+      x: { field: 'column', type: 'nominal', sort: opts.columns, title: opts.columnTitle, axis: { orient: 'top', labelAngle: slant ? -35 : 0, labelAlign: slant ? 'left' : 'center', domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
       y: { field: 'row', type: 'nominal', sort: opts.rows, title: opts.rowTitle, axis: { domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
     },
     layer: [

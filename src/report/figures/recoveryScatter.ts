@@ -21,13 +21,13 @@ export async function recoveryScatter(opts: { title: string; subtitle: string[];
   const pad = (hi - lo) * 0.05;
   const domain = [lo - pad, hi + pad];
   // Colour and shape share one field, title and legend, so Vega-Lite draws a single legend of coloured shapes.
-  const legend = { orient: 'bottom', direction: 'horizontal' };
-  const colour = { field: 'model', type: 'nominal', title: 'generating model', scale: { domain: opts.models, range: opts.models.map((_, i) => PALETTE[i % PALETTE.length]) }, legend };
-  const shape = { field: 'model', type: 'nominal', title: 'generating model', scale: { domain: opts.models, range: opts.models.map((_, i) => SHAPES[i % SHAPES.length]) }, legend };
+  const legend = { orient: 'bottom', direction: 'horizontal', labelFontSize: 10, columnPadding: 6, symbolSize: 40, offset: 8, columns: 2 };
+  const colour = { field: 'model', type: 'nominal', title: null, scale: { domain: opts.models, range: opts.models.map((_, i) => PALETTE[i % PALETTE.length]) }, legend };
+  const shape = { field: 'model', type: 'nominal', title: null, scale: { domain: opts.models, range: opts.models.map((_, i) => SHAPES[i % SHAPES.length]) }, legend };
   return renderSvg({
-    title: { text: opts.title, subtitle: opts.subtitle, subtitleColor: '#444444', subtitleFontSize: 11, subtitlePadding: 4 },
-    width: 250,
-    height: 250,
+    title: { text: opts.title, subtitle: opts.subtitle, subtitleColor: '#444444', subtitleFontSize: 10, subtitlePadding: 4, subtitleLineHeight: 13 },
+    width: 220,
+    height: 220,
     layer: [
       { data: { values: [{ v: domain[0] }, { v: domain[1] }] }, mark: { type: 'line', color: '#9a9a9a', strokeDash: [4, 3], strokeWidth: 1 }, encoding: { x: { field: 'v', type: 'quantitative', scale: { domain, nice: false, zero: false } }, y: { field: 'v', type: 'quantitative', scale: { domain, nice: false, zero: false } } } },
       {

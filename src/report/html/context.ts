@@ -61,7 +61,10 @@ export class ReportContext {
   /** Register a figure file and return it inline, with its caption. */
   figure(file: string, svg: string, caption: string, alt: string): string {
     this.figures.push({ file, svg });
-    return `<figure class="fig" data-file="figures/${escapeHtml(file)}"><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
+    // The caption wraps to the figure's own width, so narrow figures can sit side by side.
+    const width = Number(/^<svg[^>]*\swidth="([\d.]+)"/.exec(svg)?.[1]);
+    const style = Number.isFinite(width) ? ` style="width: ${Math.ceil(width)}px"` : '';
+    return `<figure class="fig" data-file="figures/${escapeHtml(file)}"${style}><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
   }
 }
 

@@ -13,10 +13,16 @@ export function listNames(ctx: ReportContext, names: readonly string[]): string 
   return n.length <= 1 ? n.join('') : `${n.slice(0, -1).join(', ')} and ${n[n.length - 1]}`;
 }
 
-export function rowSentence(ctx: ReportContext, f: Focus, i: number): { html: string; tone: Tone } {
+/**
+ * The result for generating model i: `rest` is verb-led ("recovered in …"),
+ * so it reads after the name both as a list item ("squared: recovered in …")
+ * and inside the methods paragraph ("squared was recovered in …").
+ */
+export function rowSentence(ctx: ReportContext, f: Focus, i: number): { html: string; name: string; rest: string; tone: Tone } {
   const c = f.summary.confusion;
   const cp = [...f.path, 'confusion'];
   const g = ctx.name(c.rows[i]);
+  const done = (rest: string, tone: Tone) => ({ html: `${g}: ${rest}.`, name: g, rest, tone });
   const n = `${ctx.num([...cp, 'n', i], 'count')} dataset${c.n[i] === 1 ? '' : 's'}`;
   const kind = f.summary.verdicts[i]?.kind;
   const extras: string[] = [];
@@ -26,28 +32,24 @@ export function rowSentence(ctx: ReportContext, f: Focus, i: number): { html: st
     .map((name, j) => ({ name, j, count: c.counts[i][j] ?? 0 }))
     .filter((x) => x.j !== c.diagonal[i] && x.count > 0)
     .sort((a, b) => b.count - a.count || a.j - b.j);
-  if (kind === 'no-data') return { html: `${g}: no datasets.`, tone: 'bad' };
-  if (kind === 'failed') return { html: `${g}: every one of ${n} failed to fit.`, tone: 'bad' };
+  const tail = () => (extras.length ? `; ${extras.join('; ')}` : '');
+  if (kind === 'no-data') return done('no datasets', 'bad');
+  if (kind === 'failed') return done(`failed to fit in every one of ${n}`, 'bad');
   if (kind === 'not-candidate') {
     const chosen = others.slice(0, 3).map((x) => `${ctx.name(x.name)} (${ctx.num([...cp, 'rate', i, x.j], 'percent')})`);
-    return { html: `${g} is not a candidate; its ${n} were fitted best by ${chosen.length ? chosen.join(', ') : 'no model'}${extras.length ? `; ${extras.join('; ')}` : ''}.`, tone: 'doubt' };
+    return done(`not a candidate; its ${n} were fitted best by ${chosen.length ? chosen.join(', ') : 'no model'}${tail()}`, 'doubt');
   }
   if (kind === 'not-identifiable') {
     const top = c.ties[i][0];
-    const between = listNames(ctx, top.contenders);
-    return {
-      html: `${g}: <strong>not identifiable under this design</strong>. In ${ctx.num([...cp, 'ties', i, 0, 'rate'], 'percent')} of ${n} the criterion could not separate ${between}${extras.length ? `; ${extras.join('; ')}` : ''}.`,
-      tone: 'bad',
-    };
+    return done(`<strong>not identifiable under this design</strong>: in ${ctx.num([...cp, 'ties', i, 0, 'rate'], 'percent')} of ${n} the criterion could not separate ${listNames(ctx, top.contenders)}${tail()}`, 'bad');
   }
   const j = c.diagonal[i]!;
-  let html = `${g}: recovered in ${ctx.num([...cp, 'rate', i, j], 'percent')} of ${n} (95% interval ${ctx.num([...cp, 'lower', i, j], 'percent')} to ${ctx.num([...cp, 'upper', i, j], 'percent')})`;
   if (others.length) extras.unshift(`most often mistaken for ${ctx.name(others[0].name)} (${ctx.num([...cp, 'rate', i, others[0].j], 'percent')})`);
   const lower = c.lower[i][j];
   const includesChance = c.columns.length > 1 && lower !== null && lower <= (f.summary.chance ?? NaN);
   if (includesChance) extras.push(`the interval reaches down to chance (${ctx.num([...f.path, 'chance'], 'percent')})`);
-  if (extras.length) html += `; ${extras.join('; ')}`;
-  return { html: html + '.', tone: includesChance || (c.rate[i][j] ?? 0) < 0.5 ? 'doubt' : 'good' };
+  const rest = `recovered in ${ctx.num([...cp, 'rate', i, j], 'percent')} of ${n} (95% interval ${ctx.num([...cp, 'lower', i, j], 'percent')} to ${ctx.num([...cp, 'upper', i, j], 'percent')})${tail()}`;
+  return done(rest, includesChance || (c.rate[i][j] ?? 0) < 0.5 ? 'doubt' : 'good');
 }
 
 /** Generating models the design cannot separate: rows called not identifiable, or whose recovery interval reaches chance. */

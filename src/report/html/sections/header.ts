@@ -14,7 +14,7 @@ export const header: Section = {
   <p class="kicker">lossprobe report · ${kind}</p>
   <h1>${ctx.name(s.name)}</h1>
   ${description}
-  <p class="meta">Seed ${ctx.num(['summary', 'seed'], 'id')} · scenario <code title="SHA-256 of the resolved scenario">${ctx.text(['summary', 'provenance', 'scenarioHash'])}</code> · lossprobe ${ctx.text(['summary', 'provenance', 'toolVersion'])} on Node ${ctx.text(['summary', 'provenance', 'node'])}</p>
+  <p class="meta">Seed ${ctx.num(['summary', 'seed'], 'id')} · scenario <code class="hash" title="SHA-256 of the resolved scenario">${ctx.text(['summary', 'provenance', 'scenarioHash'])}</code> · lossprobe ${ctx.text(['summary', 'provenance', 'toolVersion'])} on Node ${ctx.text(['summary', 'provenance', 'node'])}</p>
 </header>`;
   },
 };

@@ -82,7 +82,8 @@ function design(ctx: ReportContext): string {
     `Responses were given on a scale from ${ctx.num([...r, 'lower'], 'value')} to ${ctx.num([...r, 'upper'], 'value')} (${ends}), with Gaussian motor noise (standard deviation ${ctx.num([...r, 'motorSd'], 'value')}) and a lapse rate of ${ctx.num([...r, 'lapseRate'], 'percent')} (lapses uniform over the scale)${s.response.motorAware ? '; the observer allowed for its own motor noise' : ''}.`,
   );
   if (Array.isArray(s.trials)) {
-    const list = s.trials.map((_, i) => ctx.num([...SC, 'trials', i], 'count')).join(', ');
+    const counts = s.trials.map((_, i) => ctx.num([...SC, 'trials', i], 'count'));
+    const list = `${counts.slice(0, -1).join(', ')} and ${counts[counts.length - 1]}`;
     parts.push(`Each synthetic observer was analysed at ${list} trials, the smaller counts being the first trials of one sequence, split evenly across conditions.`);
   } else parts.push(`Each synthetic observer completed ${ctx.num([...SC, 'trials'], 'count')} trials, split evenly across conditions.`);
   return parts.join(' ');
@@ -133,7 +134,12 @@ function results(ctx: ReportContext): string {
     });
     parts.push(`Across the sweep the share was ${per.join(', ')} trials.`);
   }
-  parts.push(f.summary.confusion.rows.map((_, i) => rowSentence(ctx, f, i).html.replace(/\.$/, '')).join('. ') + '.');
+  const clause = (i: number) => {
+    const r = rowSentence(ctx, f, i);
+    const verb = r.rest.startsWith('failed') ? '' : r.rest.startsWith('no datasets') ? 'had ' : 'was ';
+    return `${r.name} ${verb}${r.rest}`;
+  };
+  parts.push(`By generating model: ${f.summary.confusion.rows.map((_, i) => clause(i)).join('; ')}.`);
   const weak = weakRows(f);
   const rows = f.summary.confusion.rows;
   if (weak.length) parts.push(`<strong>This design cannot reliably separate ${listNames(ctx, weak.map((i) => rows[i]))} from the other candidates</strong>: ${weak.length === 1 ? 'its' : 'their'} recovery is not clearly above chance, or the comparison was undecided in most datasets.`);
@@ -149,7 +155,7 @@ function results(ctx: ReportContext): string {
 }
 
 function reproduce(ctx: ReportContext): string {
-  return `The study was run with lossprobe ${ctx.text(['summary', 'provenance', 'toolVersion'])} on Node.js ${ctx.text(['summary', 'provenance', 'node'])}, master seed ${ctx.num(['summary', 'seed'], 'id')}; the resolved scenario has SHA-256 hash <code>${ctx.text(['summary', 'provenance', 'scenarioHash'])}</code>. The same seed and scenario give the same datasets and fits whatever the number of workers.`;
+  return `The study was run with lossprobe ${ctx.text(['summary', 'provenance', 'toolVersion'])} on Node.js ${ctx.text(['summary', 'provenance', 'node'])}, master seed ${ctx.num(['summary', 'seed'], 'id')}; the resolved scenario has SHA-256 hash <code class="hash">${ctx.text(['summary', 'provenance', 'scenarioHash'])}</code>. The same seed and scenario give the same datasets and fits whatever the number of workers.`;
 }
 
 export const methods: Section = {

@@ -36,7 +36,7 @@ async function inversionFigure(ctx: ReportContext, f: Focus): Promise<string> {
   const inv = f.summary.inversion;
   const cells: HeatCell[] = [];
   inv.rows.forEach((r, i) => inv.columns.forEach((col, j) => cells.push({ row: r, column: col, value: inv.rate[i][j], label: formatNumber(inv.rate[i][j], 'percent'), ramp: 'blue' })));
-  const svg = await heatmap({ title: 'Which model generated the data, given the one chosen?', rows: inv.rows, columns: inv.columns, rowTitle: 'generating model', columnTitle: 'model chosen', cells });
+  const svg = await heatmap({ title: 'Generating model, given the model chosen', rows: inv.rows, columns: inv.columns, rowTitle: 'generating model', columnTitle: 'model chosen', cells });
   return ctx.figure(
     'inversion.svg',
     svg,

@@ -36,14 +36,15 @@ export const parameterRecovery: Section = {
         return p && (p.n ?? 0) > 0 ? [`${m.generating}: r ${formatNumber(p.pearson, 'correlation')} · RMSE ${formatNumber(p.rmse, 'value')} · n ${formatNumber(p.n, 'count')}`] : [];
       });
       const svg = await recoveryScatter({ title: name, subtitle, models, dots });
-      figures.push(ctx.figure(`recovery-${slug(name)}.svg`, svg, `${ctx.name(name)}: fitted against true value; dashed line: perfect recovery.`, `Parameter recovery of ${name}`));
+      figures.push(ctx.figure(`recovery-${slug(name)}.svg`, svg, `${ctx.name(name)}: fitted against true value, coloured by generating model; dashed line: perfect recovery.`, `Parameter recovery of ${name}`));
     }
     const rows: string[] = [];
     rec.forEach((m, i) => {
       m.parameters.forEach((p, k) => {
         const base = [...f.path, 'recovery', i, 'parameters', k];
+        const model = k === 0 ? `<th scope="rowgroup" rowspan="${m.parameters.length}">${ctx.name(m.generating)}</th>` : '';
         rows.push(
-          `<tr><td>${ctx.name(m.generating)}</td><td>${ctx.name(p.name)}</td><td>${ctx.num([...base, 'n'], 'count')}</td><td>${ctx.num([...base, 'pearson'], 'correlation')}</td><td>${ctx.num([...base, 'bias'], 'value')}</td><td>${ctx.num([...base, 'rmse'], 'value')}</td><td>${ctx.num([...base, 'coverage', 'estimate'], 'percent')} <span class="ci">${ctx.num([...base, 'coverage', 'lower'], 'percent')}–${ctx.num([...base, 'coverage', 'upper'], 'percent')}</span></td><td>${ctx.num([...base, 'atBound'], 'count')}</td></tr>`,
+          `<tr class="${k === 0 ? 'group' : ''}">${model}<td>${ctx.name(p.name)}</td><td>${ctx.num([...base, 'n'], 'count')}</td><td>${ctx.num([...base, 'pearson'], 'correlation')}</td><td>${ctx.num([...base, 'bias'], 'value')}</td><td>${ctx.num([...base, 'rmse'], 'value')}</td><td>${ctx.num([...base, 'coverage', 'estimate'], 'percent')} <span class="ci">${ctx.num([...base, 'coverage', 'lower'], 'percent')}–${ctx.num([...base, 'coverage', 'upper'], 'percent')}</span></td><td>${ctx.num([...base, 'atBound'], 'count')}</td></tr>`,
         );
       });
     });

@@ -5,10 +5,8 @@
  */
 import type { Section } from '../section.js';
 import { formatNumber } from '../../format.js';
-import { trialCurves, type CurvePoint } from '../../figures/trialCurves.js';
+import { ALL_MODELS as ALL, trialCurves, type CurvePoint } from '../../figures/trialCurves.js';
 import { trialCountsOf } from '../data.js';
-
-const ALL = 'all models';
 
 export const trialSweep: Section = {
   id: 'trial-sweep',
@@ -49,9 +47,9 @@ export const trialSweep: Section = {
       })
       .join('\n');
     const fromSizing = typeof ctx.data.summary.sizing?.target === 'number';
-    return `<p class="how">The same synthetic observers were analysed at each trial count (smaller counts are the first trials of the larger ones), so the curves compare like with like. Bands are 95% Wilson intervals; the dashed line is the target of ${ctx.num(['report', 'target'], 'percent')}${fromSizing ? ' set for sizing' : ' (a common choice; `lossprobe size` lets you set another)'}.</p>
+    return `<p class="how">The same synthetic observers were analysed at each trial count (smaller counts are the first trials of the larger ones), so the curves compare like with like. Bands are 95% Wilson intervals; the dashed line is the target of ${ctx.num(['report', 'target'], 'percent')}${fromSizing ? ' set for sizing' : ' (a common choice; <code>lossprobe size</code> lets you set another)'}.</p>
 <div class="figs">
-${ctx.figure('trial-curves.svg', svg, 'Share of datasets in which the generating model was chosen, by trials per observer. The black dashed line pools all generating models.', 'Recovery rate against trial count')}
+${ctx.figure('trial-curves.svg', svg, 'Share of datasets in which the generating model was chosen, by trials per observer: one panel per generating model, the last pooling all of them. Shaded: 95% interval.', 'Recovery rate against trial count')}
 <div class="table-wrap"><table class="data"><caption>Recovery rate with its 95% interval</caption><thead>${head}</thead><tbody>
 ${body}
 </tbody></table></div>
