@@ -148,7 +148,8 @@ describe('report of a recovery study', () => {
     expect(r.stdout).toContain(join(copy, 'report.html'));
     const text = methodsText(reportHtml(copy));
     expect(text).toContain(`This design cannot reliably separate ${c.rows[0]}`);
-    expect(text).toContain(`${c.rows[0]}: not identifiable under this design`);
+    expect(text).toContain(`For ${c.rows[0]}, it was not identifiable under this design`);
+    expect(reportHtml(copy)).toMatch(/<li class="tone-bad"><span class="name">[^<]+<\/span>: <strong>not identifiable under this design<\/strong>/);
     checkNumbers(copy);
   });
 

@@ -46,7 +46,7 @@ export interface HeatCell {
 
 export async function heatmap(opts: { title: string; subtitle?: string; rows: string[]; columns: string[]; rowTitle: string; columnTitle: string; cells: HeatCell[]; cell?: number }): Promise<string> {
   const longest = Math.max(...opts.columns.map((c) => c.length));
-  // Wide enough for horizontal column labels up to about 13 characters; longer names are slanted.
+  // Wide enough for horizontal column labels up to about 13 characters; longer names are set vertically (slanted ones would run past the right edge).
   const slant = longest > 13;
   const size = opts.cell ?? (slant ? 60 : Math.max(58, Math.min(92, longest * 6.6 + 14)));
   const values = opts.cells.map((c) => {
@@ -59,7 +59,7 @@ export async function heatmap(opts: { title: string; subtitle?: string; rows: st
     height: size * 0.72 * opts.rows.length,
     data: { values },
     encoding: {
-      x: { field: 'column', type: 'nominal', sort: opts.columns, title: opts.columnTitle, axis: { orient: 'top', labelAngle: slant ? -35 : 0, labelAlign: slant ? 'left' : 'center', domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
+      x: { field: 'column', type: 'nominal', sort: opts.columns, title: opts.columnTitle, axis: { orient: 'top', labelAngle: slant ? -90 : 0, labelAlign: slant ? 'left' : 'center', labelBaseline: slant ? 'middle' : 'bottom', domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
       y: { field: 'row', type: 'nominal', sort: opts.rows, title: opts.rowTitle, axis: { domain: false, ticks: false, labelPadding: 6, labelFontSize: 11 } },
     },
     layer: [

@@ -136,10 +136,10 @@ function results(ctx: ReportContext): string {
   }
   const clause = (i: number) => {
     const r = rowSentence(ctx, f, i);
-    const verb = r.rest.startsWith('failed') ? '' : r.rest.startsWith('no datasets') ? 'had ' : 'was ';
-    return `${r.name} ${verb}${r.rest}`;
+    const verb = r.rest.startsWith('failed') ? 'it ' : r.rest.startsWith('no datasets') ? 'there were ' : 'it was ';
+    return `For ${r.name}, ${verb}${r.rest}.`;
   };
-  parts.push(`By generating model: ${f.summary.confusion.rows.map((_, i) => clause(i)).join('; ')}.`);
+  parts.push(f.summary.confusion.rows.map((_, i) => clause(i)).join(' '));
   const weak = weakRows(f);
   const rows = f.summary.confusion.rows;
   if (weak.length) parts.push(`<strong>This design cannot reliably separate ${listNames(ctx, weak.map((i) => rows[i]))} from the other candidates</strong>: ${weak.length === 1 ? 'its' : 'their'} recovery is not clearly above chance, or the comparison was undecided in most datasets.`);

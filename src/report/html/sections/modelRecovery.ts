@@ -36,7 +36,7 @@ async function inversionFigure(ctx: ReportContext, f: Focus): Promise<string> {
   const inv = f.summary.inversion;
   const cells: HeatCell[] = [];
   inv.rows.forEach((r, i) => inv.columns.forEach((col, j) => cells.push({ row: r, column: col, value: inv.rate[i][j], label: formatNumber(inv.rate[i][j], 'percent'), ramp: 'blue' })));
-  const svg = await heatmap({ title: 'Generating model, given the model chosen', rows: inv.rows, columns: inv.columns, rowTitle: 'generating model', columnTitle: 'model chosen', cells });
+  const svg = await heatmap({ title: 'P(generating | chosen)', rows: inv.rows, columns: inv.columns, rowTitle: 'generating model', columnTitle: 'model chosen', cells });
   return ctx.figure(
     'inversion.svg',
     svg,
@@ -54,7 +54,7 @@ export const modelRecovery: Section = {
     const crit = ctx.data.summary.criterion.toUpperCase();
     return `<p class="how">Every synthetic dataset was fitted by every candidate model and the model with the best ${crit} was chosen. A design separates the models when the confusion matrix is concentrated on its diagonal.</p>
 <div class="figs">
-${await confusionFigure(ctx, f, 'confusion.svg', 'How often each model is chosen, by generating model')}
+${await confusionFigure(ctx, f, 'confusion.svg', 'P(chosen | generating)')}
 ${await inversionFigure(ctx, f)}
 </div>`;
   },

@@ -23,7 +23,7 @@ export const tradeoffs: Section = {
       t.parameters.forEach((a, i) =>
         t.parameters.forEach((b, j) => cells.push({ row: a, column: b, value: i === j ? null : t.correlation[i][j], label: i === j ? '' : formatNumber(t.correlation[i][j], 'correlation'), ramp: 'diverging' })),
       );
-      const svg = await heatmap({ title: `Generating model ${t.generating}`, rows: t.parameters, columns: t.parameters, rowTitle: '', columnTitle: '', cells });
+      const svg = await heatmap({ title: t.generating, rows: t.parameters, columns: t.parameters, rowTitle: '', columnTitle: '', cells });
       figs.push(ctx.figure(`tradeoff-${slug(t.generating)}.svg`, svg, `Correlation of estimation errors between the parameters of ${ctx.name(t.generating)}.`, `Trade-off matrix of ${t.generating}`));
     }
     return `<p class="how">Each cell is the correlation, across synthetic observers, of the errors (fitted minus true, in the fitting space) of two parameters, ${f.phrase}. Blue: when one is overestimated the other tends to be underestimated; vermillion: both err together. Values near plus or minus one mean the design cannot tell the two apart.</p>
