@@ -14,7 +14,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { chromium, type BrowserContext } from 'playwright-core';
-import { referenceRun, removeTemp, runTiny, tempDir } from './helpers/studyFixture.js';
+import { lossprobe, referenceRun, removeTemp, runTiny, tempDir, TINY } from './helpers/studyFixture.js';
 
 const CHROMIUM = '/usr/bin/chromium';
 const haveChromium = existsSync(CHROMIUM);
@@ -38,7 +38,8 @@ describe.skipIf(!haveChromium)('report.html in headless Chromium', () => {
     console.log(`report screenshots kept in ${shots}`);
   });
 
-  async function check(folder: string, name: string): Promise<void> {
+  /** `svgDir`: where the page's figures are saved as files (a run folder's figures/, or the preview folder itself). */
+  async function check(folder: string, name: string, svgDir = join(folder, 'figures')): Promise<void> {
     const page = await browser.newPage();
     const problems: string[] = [];
     page.on('console', (m) => m.type() === 'error' && problems.push(`console: ${m.text()}`));
@@ -52,7 +53,7 @@ describe.skipIf(!haveChromium)('report.html in headless Chromium', () => {
         return { file: el.getAttribute('data-file'), width: box?.width ?? 0, height: box?.height ?? 0, marks: svg?.querySelectorAll('path, rect, line, text').length ?? 0 };
       }),
     );
-    const files = readdirSync(join(folder, 'figures')).map((f) => `figures/${f}`).sort();
+    const files = readdirSync(svgDir).filter((f) => f.endsWith('.svg')).sort();
     expect(figures.map((f) => f.file).sort()).toEqual(files);
     for (const f of figures) {
       expect(f.width, f.file!).toBeGreaterThan(100);
@@ -72,6 +73,13 @@ describe.skipIf(!haveChromium)('report.html in headless Chromium', () => {
 
   it('shows a single-count recovery study', async () => {
     await check(referenceRun().folder, 'recovery');
+  });
+
+  it('shows a preview of the candidate observers', async () => {
+    const folder = join(tempDir(), 'preview');
+    const r = lossprobe(['preview', TINY, '--out', folder]);
+    expect(r.status, r.stderr).toBe(0);
+    await check(folder, 'preview', folder);
   });
 
   it('shows a trial-count sweep', async () => {

@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { copyRun, lossprobe, readJson, referenceRun, removeTemp, runTiny, tempDir, TINY_MODELS, TINY_OBSERVERS, TINY_SEED } from './helpers/studyFixture.js';
+import { copyRun, lossprobe, readJson, referenceRun, removeTemp, runTiny, tempDir, TINY, TINY_MODELS, TINY_OBSERVERS, TINY_SEED } from './helpers/studyFixture.js';
 import { at, embeddedData, methodsText, numberSpans, rawSpans, reportHtml, svgTexts, untracedText } from './helpers/reportPage.js';
 import { formatNumber, MISSING, type NumberStyle } from '../src/report/format.js';
 import { escapeHtml, scopeIds } from '../src/report/html/context.js';
@@ -22,6 +22,12 @@ function checkNumbers(folder: string): number {
   // The raw values are the run folder's files, unchanged.
   expect(data.summary).toEqual(readJson(join(folder, 'summary.json')));
   expect(data.scenario).toEqual(readJson(join(folder, 'scenario.json')));
+  return checkSpans(html);
+}
+
+/** Every number span is its embedded raw value through the formatter, and no digit appears elsewhere. */
+function checkSpans(html: string): number {
+  const data = embeddedData(html);
   const spans = numberSpans(html);
   for (const s of spans) {
     const raw = at(data, s.path);
@@ -84,7 +90,7 @@ describe('report of a recovery study', () => {
     const files = readdirSync(join(folder, 'figures')).sort();
     expect(files).toEqual(expect.arrayContaining(['confusion.svg', 'inversion.svg', 'loss-shapes.svg']));
     for (const f of files) {
-      expect(html).toContain(`data-file="figures/${f}"`);
+      expect(html).toContain(`data-file="${f}"`);
       expect(readFileSync(join(folder, 'figures', f), 'utf8')).toMatch(/^<svg[\s\S]*<\/svg>$/);
     }
     // Self-contained: no scripts, styles or fonts fetched from elsewhere.
@@ -168,6 +174,19 @@ describe('report of a recovery study', () => {
     expect(html).toContain('id="variants"');
     expect(readdirSync(join(copy, 'figures'))).toEqual(expect.arrayContaining(['variant-narrow-prior-confusion.svg', 'variant-wide-prior-confusion.svg']));
     checkNumbers(copy);
+  });
+
+  it('gives the preview a page of its own, built the same way', () => {
+    const out = join(tempDir(), 'preview');
+    const r = lossprobe(['preview', TINY, '--out', out]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toContain(`Report: ${join(out, 'report.html')}`);
+    const html = reportHtml(out);
+    expect(checkSpans(html)).toBeGreaterThan(15);
+    const data = embeddedData(html);
+    expect(data.preview.estimates).toHaveLength(1);
+    expect(html).toContain('id="cautions"');
+    for (const f of readdirSync(out).filter((f) => f.endsWith('.svg'))) expect(html).toContain(`data-file="${f}"`);
   });
 
   it('refuses a folder without a summary in one clear line, exit code 2', () => {

@@ -15,6 +15,7 @@ import { estimateAt, motorReach } from '../observer/estimateCurve.js';
 import { lineChart, type Series } from '../report/charts.js';
 import { writeFolderAtomically } from '../report/writeFolder.js';
 import { UserError } from './userError.js';
+import { previewPage } from '../report/html/preview/previewPage.js';
 
 export interface PreviewOptions {
   prior?: string;
@@ -76,7 +77,8 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
   const s = validate(scenarioSchema, raw, source);
   const { measurements, estimates, files } = await previewScenario(s, source);
   const folder = o.out ?? join('results', `${s.name}-preview`);
-  writeFolderAtomically(folder, files);
+  const page = await previewPage({ scenario: { scenario: s }, measurements, estimates, files, identical: identicalPairs(s, estimates) });
+  writeFolderAtomically(folder, { ...files, 'report.html': page.html });
   return { scenario: s, measurements, estimates, folder };
 }
 
@@ -140,6 +142,19 @@ export async function previewScenario(s: Scenario, source: string): Promise<Omit
   return { measurements, estimates, files };
 }
 
+/** Pairs of candidate models whose estimates agree (to 1e-6 of the largest) at every tabulated measurement. */
+export function identicalPairs(s: Scenario, estimates: number[][][]): [string, string][] {
+  const pairs: [string, string][] = [];
+  const scale = Math.max(1e-12, ...estimates.flat(2).map(Math.abs));
+  for (let a = 0; a < s.models.length; a++)
+    for (let b = a + 1; b < s.models.length; b++) {
+      let maxDiff = 0;
+      for (let c = 0; c < s.conditions.length; c++) estimates[c][a].forEach((v, i) => (maxDiff = Math.max(maxDiff, Math.abs(v - estimates[c][b][i]))));
+      if (maxDiff < 1e-6 * scale) pairs.push([s.models[a].name, s.models[b].name]);
+    }
+  return pairs;
+}
+
 export function printPreview(r: PreviewResult): void {
   const s = r.scenario;
   console.log(`Preview of '${s.name}': Bayes estimate at selected measurements (stimulus units)\n`);
@@ -149,17 +164,11 @@ export function printPreview(r: PreviewResult): void {
     console.log(table.toString());
   }
   // Say plainly when candidates agree everywhere: the design then cannot tell them apart.
-  const same: string[] = [];
-  for (let a = 0; a < s.models.length; a++)
-    for (let b = a + 1; b < s.models.length; b++) {
-      let maxDiff = 0;
-      for (let c = 0; c < s.conditions.length; c++) r.estimates[c][a].forEach((v, i) => (maxDiff = Math.max(maxDiff, Math.abs(v - r.estimates[c][b][i]))));
-      const scale = Math.max(1e-12, ...r.estimates.flat(2).map(Math.abs));
-      if (maxDiff < 1e-6 * scale) same.push(`${s.models[a].name} and ${s.models[b].name}`);
-    }
+  const same = identicalPairs(s, r.estimates).map(([a, b]) => `${a} and ${b}`);
   if (same.length) {
     console.log(`\nIdentical estimates under this design at these parameter values: ${same.join('; ')}.`);
     console.log('Distinct families that coincide here cannot be told apart by any number of trials; a family containing another (power contains squared at exponent 2 and absolute at exponent 1) coincides with it at that value and is told apart only where its parameter differs.');
   }
   console.log(`\nFigures and estimates.csv written to ${r.folder}/`);
+  console.log(`Report: ${join(r.folder, 'report.html')}`);
 }

@@ -5,7 +5,7 @@
  * so a test (or a curious reader) can trace every number to its raw value.
  */
 import { formatNumber, type NumberStyle } from '../format.js';
-import type { EmbeddedData, ReportData } from './data.js';
+import type { ReportData } from './data.js';
 
 export type DataPath = readonly (string | number)[];
 
@@ -26,11 +26,12 @@ export function lookup(root: unknown, path: DataPath): unknown {
   return v;
 }
 
-export class ReportContext {
+/** D: what the sections read (a run folder's contents by default); `embedded`: the raw values the page carries. */
+export class ReportContext<D = ReportData> {
   readonly figures: Figure[] = [];
   constructor(
-    readonly data: ReportData,
-    readonly embedded: EmbeddedData,
+    readonly data: D,
+    readonly embedded: object,
   ) {}
 
   /** The raw number at `path` (null stays null); a path that leads elsewhere is a programming error. */
@@ -64,7 +65,7 @@ export class ReportContext {
     // The caption wraps to the figure's own width, so narrow figures can sit side by side.
     const width = Number(/^<svg[^>]*\swidth="([\d.]+)"/.exec(svg)?.[1]);
     const style = Number.isFinite(width) ? ` style="width: ${Math.ceil(width)}px"` : '';
-    return `<figure class="fig" data-file="figures/${escapeHtml(file)}"${style}><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
+    return `<figure class="fig" data-file="${escapeHtml(file)}"${style}><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
   }
 }
 

@@ -20,10 +20,15 @@ export interface BuiltReport {
   sections: string[];
 }
 
+/** The page of a run folder: its sections, with summary.json, scenario.json and the report's settings embedded. */
 export async function buildReport(data: ReportData, sections: readonly Section[] = SECTIONS): Promise<BuiltReport> {
   const embedded: EmbeddedData = { summary: data.summary, scenario: data.scenario, report: data.settings };
-  const ctx = new ReportContext(data, embedded);
-  const used = sections.filter((s) => s.applies(data));
+  return buildPage(new ReportContext(data, embedded), sections, `${data.summary.name}: lossprobe report`);
+}
+
+/** Any page: run the sections that apply, in order, and wrap them with the style and the embedded raw data. */
+export async function buildPage<D>(ctx: ReportContext<D>, sections: readonly Section<D>[], title: string): Promise<BuiltReport> {
+  const used = sections.filter((s) => s.applies(ctx.data));
   const blocks: { html: string; half: boolean }[] = [];
   for (const s of used) {
     const body = await s.render(ctx);
@@ -38,7 +43,6 @@ export async function buildReport(data: ReportData, sections: readonly Section[]
       i++;
     } else out.push(blocks[i].html);
   }
-  const title = `${data.summary.name}: lossprobe report`;
   const html = `<!DOCTYPE html>
 <html lang="en">
 <head>
@@ -50,8 +54,8 @@ export async function buildReport(data: ReportData, sections: readonly Section[]
 </head>
 <body>
 ${out.join('\n')}
-<footer>Made by lossprobe from the run folder's summary.json, scenario.json and jobs.jsonl.</footer>
-<script type="application/json" id="lossprobe-data">${scriptJson(embedded)}</script>
+<footer>Made by lossprobe. The raw values behind every number are embedded in this file (the lossprobe-data block).</footer>
+<script type="application/json" id="lossprobe-data">${scriptJson(ctx.embedded)}</script>
 </body>
 </html>
 `;

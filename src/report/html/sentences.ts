@@ -8,7 +8,7 @@ import type { Focus } from './focus.js';
 
 export type Tone = 'good' | 'doubt' | 'bad';
 
-export function listNames(ctx: ReportContext, names: readonly string[]): string {
+export function listNames<D>(ctx: ReportContext<D>, names: readonly string[]): string {
   const n = names.map((s) => ctx.name(s));
   return n.length <= 1 ? n.join('') : `${n.slice(0, -1).join(', ')} and ${n[n.length - 1]}`;
 }

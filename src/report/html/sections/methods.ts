@@ -11,6 +11,7 @@ import { lookup } from '../context.js';
 import { focusOf } from '../focus.js';
 import { listNames, rowSentence, weakRows } from '../sentences.js';
 import { trialCountsOf } from '../data.js';
+import type { Scenario } from '../../../scenario/schema.js';
 
 const SC: DataPath = ['scenario', 'scenario'];
 
@@ -46,7 +47,10 @@ const CRITERION_WORDS: Record<string, string> = {
 };
 
 /** "shape 2, scale 9" for the numeric fields of a family object at `path`. */
-function params(ctx: ReportContext, path: DataPath): string {
+/** What the design sentences read: a scenario record embedded at ['scenario']. */
+type WithScenario = { scenario: { scenario: Scenario } };
+
+function params<D>(ctx: ReportContext<D>, path: DataPath): string {
   const obj = lookup(ctx.embedded, path) as Record<string, unknown>;
   return Object.entries(obj)
     .filter(([k, v]) => k !== 'family' && typeof v === 'number')
@@ -54,7 +58,7 @@ function params(ctx: ReportContext, path: DataPath): string {
     .join(', ');
 }
 
-function family(ctx: ReportContext, path: DataPath, words: Record<string, string>): string {
+function family<D>(ctx: ReportContext<D>, path: DataPath, words: Record<string, string>): string {
   const obj = lookup(ctx.embedded, path) as { family: string };
   const p = params(ctx, path);
   return `${words[obj.family] ?? ctx.name(obj.family)}${p ? ` (${p})` : ''}`;
@@ -67,7 +71,8 @@ function draw(ctx: ReportContext, path: DataPath): string {
   return `${kind === 'uniform' ? 'uniform' : 'log-uniform'} on [${ctx.num([...path, kind, 0], 'value')}, ${ctx.num([...path, kind, 1], 'value')}]`;
 }
 
-function design(ctx: ReportContext): string {
+/** The design in sentences: stimuli, prior, conditions, response stage and (for studies) trials. */
+export function design<D extends WithScenario>(ctx: ReportContext<D>, withTrials = true): string {
   const s = ctx.data.scenario.scenario;
   const parts: string[] = [];
   const priorText = family(ctx, [...SC, 'prior'], FAMILY_WORDS);
@@ -81,6 +86,7 @@ function design(ctx: ReportContext): string {
   parts.push(
     `Responses were given on a scale from ${ctx.num([...r, 'lower'], 'value')} to ${ctx.num([...r, 'upper'], 'value')} (${ends}), with Gaussian motor noise (standard deviation ${ctx.num([...r, 'motorSd'], 'value')}) and a lapse rate of ${ctx.num([...r, 'lapseRate'], 'percent')} (lapses uniform over the scale)${s.response.motorAware ? '; the observer allowed for its own motor noise' : ''}.`,
   );
+  if (!withTrials) return parts.join(' ');
   if (Array.isArray(s.trials)) {
     const counts = s.trials.map((_, i) => ctx.num([...SC, 'trials', i], 'count'));
     const list = `${counts.slice(0, -1).join(', ')} and ${counts[counts.length - 1]}`;
