@@ -65,7 +65,7 @@ describe('the one number formatter', () => {
 
   it('keeps inline figure ids apart and cell text legible', () => {
     const svg = '<svg><clipPath id="clip3"/><g clip-path="url(#clip3)"/></svg>';
-    expect(scopeIds(svg, 'a.svg')).toBe('<svg><clipPath id="a_svg-clip3"/><g clip-path="url(#a_svg-clip3)"/></svg>');
+    expect(scopeIds(svg, 'a.svg')).toBe('<svg><clipPath id="a_svg-1"/><g clip-path="url(#a_svg-1)"/></svg>');
     expect(escapeHtml(`<a href="x">'&`)).toBe('&lt;a href=&quot;x&quot;&gt;&#39;&amp;');
     // WCAG 2 contrast: white text only on the dark end of a ramp.
     expect(textOn(cellFill(1, 'blue'))).toBe('#ffffff');
@@ -96,6 +96,14 @@ describe('report of a recovery study', () => {
     // Self-contained: no scripts, styles or fonts fetched from elsewhere.
     expect(html).not.toMatch(/(src|href)="(https?:)?\/\//);
     expect(html).toContain('id="cautions"');
+  });
+
+  it('is the same file, byte for byte, when rewritten from the run folder in another process', () => {
+    const copy = join(tempDir(), 'again');
+    copyRun(folder, copy);
+    expect(lossprobe(['report', copy]).status).toBe(0);
+    expect(reportHtml(copy)).toBe(reportHtml(folder));
+    for (const f of readdirSync(join(folder, 'figures'))) expect(readFileSync(join(copy, 'figures', f), 'utf8'), f).toBe(readFileSync(join(folder, 'figures', f), 'utf8'));
   });
 
   it('shows every number as its raw value through the one formatter (single trial count)', () => {

@@ -59,24 +59,32 @@ export class ReportContext<D = ReportData> {
     return `<span class="name">${escapeHtml(s)}</span>`;
   }
 
-  /** Register a figure file and return it inline, with its caption. */
+  /** Register a figure file (saved with the same scoped ids) and return it inline, with its caption. */
   figure(file: string, svg: string, caption: string, alt: string): string {
-    this.figures.push({ file, svg });
+    const scoped = scopeIds(svg, file);
+    this.figures.push({ file, svg: scoped });
     // The caption wraps to the figure's own width, so narrow figures can sit side by side.
     const width = Number(/^<svg[^>]*\swidth="([\d.]+)"/.exec(svg)?.[1]);
     const style = Number.isFinite(width) ? ` style="width: ${Math.ceil(width)}px"` : '';
-    return `<figure class="fig" data-file="${escapeHtml(file)}"${style}><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scopeIds(svg, file)}</div><figcaption>${caption}</figcaption></figure>`;
+    return `<figure class="fig" data-file="${escapeHtml(file)}"${style}><div class="svg" role="img" aria-label="${escapeHtml(alt)}">${scoped}</div><figcaption>${caption}</figcaption></figure>`;
   }
 }
 
 /**
- * Vega numbers clip paths from a process-wide counter ("clip1", "clip2", …);
- * inline SVGs share one id space, so each figure's ids get its file name as
- * a prefix (the saved files keep theirs: each stands alone).
+ * Vega numbers clip paths from a process-wide counter ("clip1", "clip2", …),
+ * so the same figure gets other ids in another process, and inline SVGs share
+ * one id space. Each figure's ids are renumbered in order of appearance under
+ * its file name: unique on the page, and identical bytes on every run.
  */
 export function scopeIds(svg: string, file: string): string {
   const prefix = file.replace(/[^A-Za-z0-9_-]/g, '_') + '-';
-  return svg.replace(/\bid="([^"]+)"/g, `id="${prefix}$1"`).replace(/url\(#([^)]+)\)/g, `url(#${prefix}$1)`).replace(/href="#([^"]+)"/g, `href="#${prefix}$1"`);
+  const ids = new Map<string, string>();
+  for (const m of svg.matchAll(/\bid="([^"]+)"/g)) if (!ids.has(m[1])) ids.set(m[1], `${prefix}${ids.size + 1}`);
+  const to = (id: string) => ids.get(id) ?? id;
+  return svg
+    .replace(/\bid="([^"]+)"/g, (_, id: string) => `id="${to(id)}"`)
+    .replace(/url\(#([^)]+)\)/g, (_, id: string) => `url(#${to(id)})`)
+    .replace(/href="#([^"]+)"/g, (_, id: string) => `href="#${to(id)}"`);
 }
 
 /** A safe file-name piece from a user-chosen name. */
