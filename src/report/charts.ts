@@ -47,8 +47,9 @@ export async function lineChart(opts: { title: string; xTitle: string; yTitle: s
       encoding: {
         x: { field: 'x', type: 'quantitative', title: opts.xTitle, scale: { zero: false } },
         y: { field: 'y', type: 'quantitative', title: opts.yTitle, scale: { zero: false } },
-        color: { field: 'series', type: 'nominal', title: null, sort: opts.series.map((s) => s.name) },
-        strokeDash: { field: 'series', type: 'nominal', legend: null, sort: opts.series.map((s) => s.name) },
+        // Colour and dash share field, title and domain, so the one legend shows both (readable in grey print too).
+        color: { field: 'series', type: 'nominal', title: null, scale: { domain: opts.series.map((s) => s.name) } },
+        strokeDash: { field: 'series', type: 'nominal', title: null, scale: { domain: opts.series.map((s) => s.name) } },
       },
     },
   ];
