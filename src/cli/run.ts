@@ -112,7 +112,7 @@ export function printStudy(summary: StudySummary, folder: string, reportPath?: s
   console.log(`Overall: generating model chosen in ${pct(a.estimate)} of datasets [95% interval ${pct(a.lower)}–${pct(a.upper)}]; chance ${pct(s.chance)}.`);
   for (const v of s.verdicts) console.log(`  ${v.text}`);
   const rec = new Table({ head: ['parameter recovery', 'parameter', 'r', 'RMSE', 'coverage'], ...compact });
-  for (const m of s.recovery) for (const p of m.parameters) rec.push([m.generating, p.name, formatNumber(p.pearson, 'correlation'), formatNumber(p.rmse, 'value'), pct(p.coverage.estimate)]);
+  for (const m of s.recovery) for (const [k, p] of m.parameters.entries()) rec.push([k === 0 ? m.generating : '', p.name, formatNumber(p.pearson, 'correlation'), formatNumber(p.rmse, 'value'), pct(p.coverage.estimate)]);
   if (rec.length) console.log(rec.toString());
   console.log('\nA simulation holds only under its assumptions; it complements, not replaces, a pilot study and the advice of your ethics board and statistician.');
   console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv, figures/)`);

@@ -41,6 +41,9 @@ export function rowSentence(ctx: ReportContext, f: Focus, i: number): { html: st
   }
   if (kind === 'not-identifiable') {
     const top = c.ties[i][0];
+    // The share undecided in all only adds something when other tie groups exist.
+    if ((c.undecided[i] ?? 0) > 0) extras.shift();
+    if ((c.undecided[i] ?? 0) > (top.count ?? 0)) extras.unshift(`${ctx.num([...cp, 'undecidedRate', i], 'percent')} undecided or tied in all`);
     return done(`<strong>not identifiable under this design</strong>: in ${ctx.num([...cp, 'ties', i, 0, 'rate'], 'percent')} of ${n} the criterion could not separate ${listNames(ctx, top.contenders)}${tail()}`, 'bad');
   }
   const j = c.diagonal[i]!;

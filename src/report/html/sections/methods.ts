@@ -32,10 +32,10 @@ const NOISE_WORDS: Record<string, string> = {
 
 const LOSS_WORDS: Record<string, string> = {
   squared: 'squared-error loss, whose Bayes estimate is the posterior mean',
-  absolute: 'absolute-error loss (posterior median)',
-  'hit-or-miss': 'hit-or-miss loss (the centre of the window of highest posterior mass; the mode as the window shrinks)',
-  power: 'power loss, error raised to an exponent',
-  'asymmetric-linear': 'asymmetric linear loss (a posterior quantile set by its level)',
+  absolute: 'absolute-error loss, whose Bayes estimate is the posterior median',
+  'hit-or-miss': 'hit-or-miss loss, whose Bayes estimate is the centre of the window of highest posterior mass',
+  power: 'power loss, the error raised to an exponent',
+  'asymmetric-linear': 'asymmetric linear loss, whose Bayes estimate is the posterior quantile set by its level',
   'inverted-gaussian': 'bounded inverted-Gaussian loss',
 };
 
@@ -62,6 +62,13 @@ function family<D>(ctx: ReportContext<D>, path: DataPath, words: Record<string, 
   const obj = lookup(ctx.embedded, path) as { family: string };
   const p = params(ctx, path);
   return `${words[obj.family] ?? ctx.name(obj.family)}${p ? ` (${p})` : ''}`;
+}
+
+/** Names grouped by equal keys, groups in order of first appearance. */
+function groupBy(names: string[], keys: string[]): string[][] {
+  const groups = new Map<string, string[]>();
+  names.forEach((n, i) => groups.set(keys[i], [...(groups.get(keys[i]) ?? []), n]));
+  return [...groups.values()];
 }
 
 function draw(ctx: ReportContext, path: DataPath): string {
@@ -98,13 +105,22 @@ export function design<D extends WithScenario>(ctx: ReportContext<D>, withTrials
 function models(ctx: ReportContext): string {
   const s = ctx.data.scenario.scenario;
   const list = s.models.map((m, i) => `${ctx.name(m.name)} (${LOSS_WORDS[m.loss.family] ?? ctx.name(m.loss.family)}${params(ctx, [...SC, 'models', i, 'loss']) ? `, ${params(ctx, [...SC, 'models', i, 'loss'])}` : ''})`);
-  const frees = s.models.map((m) => (m.free ? m.free.join(', ') : null));
-  const sameFree = frees.every((f) => f === frees[0]);
+  // The free parameters as fitted (from the job lines), else as the scenario states them.
+  const freeOf = (m: (typeof s.models)[number]): string[] | null => {
+    for (const l of ctx.data.lines) {
+      const fit = l.fits?.find((x) => x.model === m.name && x.status === 'ok');
+      if (fit) return fit.parameters.map((p) => p.name);
+    }
+    return m.free ?? null;
+  };
+  const frees = s.models.map(freeOf);
+  const sameFree = frees.every((f) => JSON.stringify(f) === JSON.stringify(frees[0]));
+  const describe = (f: string[] | null) => (f ? (f.length ? listNames(ctx, f) : 'none') : 'its loss parameters, every sensory-noise parameter, the motor noise and the lapse rate');
   const freeText = sameFree
-    ? frees[0]
-      ? `Each model's free parameters were ${listNames(ctx, s.models[0].free!)}.`
-      : 'Each model was fitted with its loss parameters, every sensory-noise parameter, the motor noise and the lapse rate free.'
-    : `Free parameters: ${s.models.map((m) => `${ctx.name(m.name)}: ${m.free ? listNames(ctx, m.free) : 'loss, sensory noise, motor noise and lapse rate'}`).join('; ')}.`;
+    ? `Each model's free parameters were ${describe(frees[0])}.`
+    : `Free parameters: ${groupBy(s.models.map((m) => m.name), frees.map((f) => JSON.stringify(f)))
+        .map((names) => `${listNames(ctx, names)}: ${describe(frees[s.models.findIndex((m) => m.name === names[0])])}`)
+        .join('; ')}.`;
   const gen = ctx.data.summary.generating;
   const obs = ctx.num([...SC, 'generate', 'observers'], 'count');
   const counts = trialCountsOf(ctx.data.summary);
@@ -152,7 +168,8 @@ function results(ctx: ReportContext): string {
   else if (rows.length > 1) parts.push('Every generating model was recovered with a 95% interval above chance.');
   const rec = f.summary.recovery
     .map((m, i) => {
-      const ps = m.parameters.map((p, k) => ((p.n ?? 0) > 0 ? `${ctx.name(p.name)} ${ctx.num([...f.path, 'recovery', i, 'parameters', k, 'pearson'], 'correlation')}` : '')).filter(Boolean);
+      // A parameter whose true value never varies has no correlation to report.
+      const ps = m.parameters.map((p, k) => ((p.n ?? 0) > 0 && p.pearson !== null ? `${ctx.name(p.name)} ${ctx.num([...f.path, 'recovery', i, 'parameters', k, 'pearson'], 'correlation')}` : '')).filter(Boolean);
       return ps.length ? `${ctx.name(m.generating)}: ${ps.join(', ')}` : '';
     })
     .filter(Boolean);

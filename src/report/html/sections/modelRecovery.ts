@@ -8,6 +8,7 @@ import type { ReportContext } from '../context.js';
 import { focusOf, type Focus } from '../focus.js';
 import { formatNumber } from '../../format.js';
 import { heatmap, type HeatCell } from '../../figures/heatmap.js';
+import { listNames } from '../sentences.js';
 
 export const UNDECIDED = 'undecided';
 export const FAILED = 'failed fit';
@@ -45,6 +46,17 @@ async function inversionFigure(ctx: ReportContext, f: Focus): Promise<string> {
   );
 }
 
+/** Which models the undecided datasets could not separate, row by row (the matrix shows only how many). */
+function tieList(ctx: ReportContext, f: Focus): string {
+  const c = f.summary.confusion;
+  const items = c.rows.flatMap((g, i) =>
+    c.ties[i]?.length
+      ? [`<li>${ctx.name(g)}: ${c.ties[i].map((t, k) => `${listNames(ctx, t.contenders)} in ${ctx.num([...f.path, 'confusion', 'ties', i, k, 'rate'], 'percent')}`).join('; ')}</li>`]
+      : [],
+  );
+  return items.length ? `<p class="how">Undecided datasets, by the models the criterion could not separate (share of the row's datasets):</p>\n<ul class="ties">\n${items.join('\n')}\n</ul>` : '';
+}
+
 export const modelRecovery: Section = {
   id: 'model-recovery',
   title: 'Model recovery',
@@ -56,6 +68,7 @@ export const modelRecovery: Section = {
 <div class="figs">
 ${await confusionFigure(ctx, f, 'confusion.svg', 'P(chosen | generating)')}
 ${await inversionFigure(ctx, f)}
-</div>`;
+</div>
+${tieList(ctx, f)}`;
   },
 };
