@@ -22,6 +22,7 @@ function checkNumbers(folder: string): number {
   // The raw values are the run folder's files, unchanged.
   expect(data.summary).toEqual(readJson(join(folder, 'summary.json')));
   expect(data.scenario).toEqual(readJson(join(folder, 'scenario.json')));
+  expect(html).not.toContain('section-failed');
   return checkSpans(html);
 }
 
@@ -195,6 +196,21 @@ describe('report of a recovery study', () => {
     expect(data.preview.estimates).toHaveLength(1);
     expect(html).toContain('id="cautions"');
     for (const f of readdirSync(out).filter((f) => f.endsWith('.svg'))) expect(html).toContain(`data-file="${f}"`);
+  });
+
+  it('draws the rest of the page when one section cannot be drawn, and says which', () => {
+    const copy = join(tempDir(), 'odd');
+    copyRun(folder, copy);
+    const path = join(copy, 'summary.json');
+    const s = readJson<any>(path);
+    s.variants = [{ name: 'no-results-yet' }];
+    writeFileSync(path, JSON.stringify(s, null, 2));
+    const r = lossprobe(['report', copy]);
+    expect(r.status).toBe(0);
+    expect(r.stderr).toMatch(/section 'variants'/);
+    const html = reportHtml(copy);
+    expect(html).toContain('section-failed');
+    expect(html).toContain('id="methods"');
   });
 
   it('refuses a folder without a summary in one clear line, exit code 2', () => {

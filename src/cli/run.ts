@@ -144,7 +144,15 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
   );
-  const report = await writeReport(folder);
+  // The study's results are written; a report that fails must not turn a finished run into an error.
+  let reportPath: string | undefined;
+  try {
+    const report = await writeReport(folder);
+    for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
+    reportPath = report.path;
+  } catch (e) {
+    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
+  }
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printStudy(summary, folder, report.path);
+  else printStudy(summary, folder, reportPath);
 }

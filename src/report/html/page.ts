@@ -18,6 +18,8 @@ export interface BuiltReport {
   html: string;
   figures: Figure[];
   sections: string[];
+  /** Sections that failed to render (shown on the page as a note). */
+  problems: string[];
 }
 
 /** The page of a run folder: its sections, with summary.json, scenario.json and the report's settings embedded. */
@@ -30,8 +32,16 @@ export async function buildReport(data: ReportData, sections: readonly Section[]
 export async function buildPage<D>(ctx: ReportContext<D>, sections: readonly Section<D>[], title: string): Promise<BuiltReport> {
   const used = sections.filter((s) => s.applies(ctx.data));
   const blocks: { html: string; half: boolean }[] = [];
+  const problems: string[] = [];
   for (const s of used) {
-    const body = await s.render(ctx);
+    let body: string;
+    try {
+      body = await s.render(ctx);
+    } catch (e) {
+      // One section that cannot be drawn (e.g. a summary written by a newer command) must not cost the whole report.
+      problems.push(`section '${s.id}': ${(e as Error).message}`);
+      body = `<p class="note section-failed">This section could not be drawn: ${escapeHtml((e as Error).message)}</p>`;
+    }
     const html = s.title ? `<section id="${s.id}"><h2>${escapeHtml(s.title)}</h2>\n${body}\n</section>` : body;
     blocks.push({ html, half: s.width === 'half' });
   }
@@ -59,5 +69,5 @@ ${out.join('\n')}
 </body>
 </html>
 `;
-  return { html, figures: ctx.figures, sections: used.map((s) => s.id) };
+  return { html, figures: ctx.figures, sections: used.map((s) => s.id), problems };
 }

@@ -14,6 +14,7 @@ export interface WrittenReport {
   path: string;
   figures: string[];
   sections: string[];
+  problems: string[];
 }
 
 export async function writeReport(folder: string): Promise<WrittenReport> {
@@ -26,5 +27,5 @@ export async function writeReport(folder: string): Promise<WrittenReport> {
   const tmp = `${path}.partial-${process.pid}`;
   writeFileSync(tmp, built.html);
   renameSync(tmp, path);
-  return { path, figures: Object.keys(files).map((f) => join(folder, 'figures', f)), sections: built.sections };
+  return { path, figures: Object.keys(files).map((f) => join(folder, 'figures', f)), sections: built.sections, problems: built.problems };
 }
