@@ -68,3 +68,12 @@ export function weakRows(f: Focus): number[] {
       return kind === 'recovery' && c.columns.length > 1 && lower !== null && lower <= (f.summary.chance ?? NaN);
     });
 }
+
+/** The plain statement of what the design cannot separate (empty when every row is recovered above chance). */
+export function separationStatement(ctx: ReportContext, f: Focus): string {
+  const weak = weakRows(f);
+  const rows = f.summary.confusion.rows;
+  if (weak.length)
+    return `<strong>This design cannot reliably separate ${listNames(ctx, weak.map((i) => rows[i]))} from the other candidates</strong>: ${weak.length === 1 ? 'its' : 'their'} recovery is not clearly above chance, or the comparison was undecided in most datasets.`;
+  return rows.length > 1 ? 'Every generating model was recovered with a 95% interval above chance.' : '';
+}

@@ -48,6 +48,7 @@ table.data td .num, table.data th .num { font-variant-numeric: tabular-nums; }
 .methods { border-left: 3px solid var(--accent); padding: 2px 0 2px 16px; max-width: 82ch; }
 .methods p { margin: 0 0 10px; }
 .note { color: var(--warn); }
+.separation { background: #fbeee6; border-left: 4px solid #d55e00; padding: 8px 12px; margin: 0 0 12px; }
 ul.ties { margin: 0; padding-left: 18px; font-size: 14px; }
 footer { color: var(--muted); font-size: 12.5px; margin-top: 8px; }
 @media print { html { background: #fff; } body { max-width: none; padding: 0; } section { break-inside: avoid; border: none; padding: 8px 0; } .pair { grid-template-columns: 1fr 1fr; } }

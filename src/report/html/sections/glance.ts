@@ -1,7 +1,7 @@
 /** The headline: how often the truth came back, and one sentence per generating model. */
 import type { Section } from '../section.js';
 import { focusOf } from '../focus.js';
-import { rowSentence } from '../sentences.js';
+import { rowSentence, separationStatement, weakRows } from '../sentences.js';
 
 export const glance: Section = {
   id: 'glance',
@@ -18,7 +18,7 @@ export const glance: Section = {
   <div class="big-text">of synthetic datasets were best fitted by the model that generated them, ${f.phrase}.<br>
   <span class="muted">95% interval ${ctx.num([...a, 'lower'], 'percent')} to ${ctx.num([...a, 'upper'], 'percent')} · ${ctx.num([...a, 'n'], 'count')} datasets · chance ${ctx.num([...f.path, 'chance'], 'percent')} · balanced accuracy ${ctx.num([...b, 'estimate'], 'percent')}</span></div>
 </div>
-<ul class="verdicts">
+${weakRows(f).length ? `<p class="separation">${separationStatement(ctx, f)}</p>\n` : ''}<ul class="verdicts">
 ${rows.map((r) => `  <li class="tone-${r.tone}">${r.html}</li>`).join('\n')}
 </ul>`;
   },

@@ -9,7 +9,7 @@ import type { Section } from '../section.js';
 import type { DataPath, ReportContext } from '../context.js';
 import { lookup } from '../context.js';
 import { focusOf } from '../focus.js';
-import { listNames, rowSentence, weakRows } from '../sentences.js';
+import { listNames, rowSentence, separationStatement } from '../sentences.js';
 import { trialCountsOf } from '../data.js';
 import type { Scenario } from '../../../scenario/schema.js';
 
@@ -162,10 +162,7 @@ function results(ctx: ReportContext): string {
     return `For ${r.name}, ${verb}${r.rest}.`;
   };
   parts.push(f.summary.confusion.rows.map((_, i) => clause(i)).join(' '));
-  const weak = weakRows(f);
-  const rows = f.summary.confusion.rows;
-  if (weak.length) parts.push(`<strong>This design cannot reliably separate ${listNames(ctx, weak.map((i) => rows[i]))} from the other candidates</strong>: ${weak.length === 1 ? 'its' : 'their'} recovery is not clearly above chance, or the comparison was undecided in most datasets.`);
-  else if (rows.length > 1) parts.push('Every generating model was recovered with a 95% interval above chance.');
+  parts.push(separationStatement(ctx, f));
   const rec = f.summary.recovery
     .map((m, i) => {
       // A parameter whose true value never varies has no correlation to report.
