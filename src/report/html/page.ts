@@ -45,6 +45,13 @@ export async function buildPage<D>(ctx: ReportContext<D>, sections: readonly Sec
     const html = s.title ? `<section id="${s.id}"><h2>${escapeHtml(s.title)}</h2>\n${body}\n</section>` : body;
     blocks.push({ html, half: s.width === 'half' });
   }
+  // A contents line after the untitled header block, for pages long enough to scroll.
+  const titled = used.filter((s) => s.title);
+  const nav = titled.length > 3 ? `<nav class="contents" aria-label="Contents">${titled.map((s) => `<a href="#${s.id}">${escapeHtml(s.title)}</a>`).join('')}</nav>` : '';
+  if (nav) {
+    const firstTitled = used.findIndex((s) => s.title);
+    blocks.splice(firstTitled, 0, { html: nav, half: false });
+  }
   // Consecutive half-width sections share a row.
   const out: string[] = [];
   for (let i = 0; i < blocks.length; i++) {

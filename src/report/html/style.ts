@@ -8,7 +8,10 @@ h1 { font-size: 30px; line-height: 1.2; margin: 4px 0 8px; letter-spacing: -0.01
 h2 { font-size: 19px; margin: 0 0 10px; padding-bottom: 6px; border-bottom: 2px solid var(--accent); display: inline-block; }
 code { font: 12.5px/1.4 "DejaVu Sans Mono", Consolas, monospace; background: #f0eee8; padding: 1px 4px; border-radius: 3px; }
 code.hash { word-break: break-all; }
-.top { padding: 8px 0 20px; border-bottom: 1px solid var(--rule); margin-bottom: 24px; }
+.top { padding: 8px 0 16px; }
+.contents { display: flex; flex-wrap: wrap; gap: 4px 18px; padding: 10px 0 12px; margin-bottom: 22px; border-top: 1px solid var(--rule); border-bottom: 1px solid var(--rule); font-size: 13.5px; }
+.contents a { color: var(--accent); text-decoration: none; }
+.contents a:hover { text-decoration: underline; }
 .kicker { text-transform: uppercase; letter-spacing: 0.08em; font-size: 12px; color: var(--accent); margin: 0; font-weight: bold; }
 .lede { font-size: 17px; color: var(--muted); margin: 0 0 6px; }
 .meta { color: var(--muted); font-size: 13px; margin: 0; }
@@ -51,5 +54,5 @@ table.data td .num, table.data th .num { font-variant-numeric: tabular-nums; }
 .separation { background: #fbeee6; border-left: 4px solid #d55e00; padding: 8px 12px; margin: 0 0 12px; }
 ul.ties { margin: 0; padding-left: 18px; font-size: 14px; }
 footer { color: var(--muted); font-size: 12.5px; margin-top: 8px; }
-@media print { html { background: #fff; } body { max-width: none; padding: 0; } section { break-inside: avoid; border: none; padding: 8px 0; } .pair { grid-template-columns: 1fr 1fr; } }
+@media print { .contents { display: none; } html { background: #fff; } body { max-width: none; padding: 0; } section { break-inside: avoid; border: none; padding: 8px 0; } .pair { grid-template-columns: 1fr 1fr; } }
 `;
