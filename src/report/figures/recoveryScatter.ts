@@ -21,7 +21,9 @@ export async function recoveryScatter(opts: { title: string; subtitle: string[];
   const pad = (hi - lo) * 0.05;
   const domain = [lo - pad, hi + pad];
   // Colour and shape share one field, title and legend, so Vega-Lite draws a single legend of coloured shapes.
-  const legend = { orient: 'bottom', direction: 'horizontal', labelFontSize: 10, columnPadding: 6, symbolSize: 40, offset: 8, columns: 2 };
+  // Colours stay fixed across panels (domain: every model); the legend lists only the models drawn here.
+  const present = opts.models.filter((m) => opts.dots.some((d) => d.model === m));
+  const legend = { orient: 'bottom', direction: 'horizontal', labelFontSize: 10, columnPadding: 6, symbolSize: 40, offset: 8, columns: 2, values: present };
   const colour = { field: 'model', type: 'nominal', title: null, scale: { domain: opts.models, range: opts.models.map((_, i) => PALETTE[i % PALETTE.length]) }, legend };
   const shape = { field: 'model', type: 'nominal', title: null, scale: { domain: opts.models, range: opts.models.map((_, i) => SHAPES[i % SHAPES.length]) }, legend };
   return renderSvg({

@@ -48,6 +48,18 @@ export const parameterRecovery: Section = {
         );
       });
     });
+    // Loss parameters by bins of their true value: a loss is often recoverable in one part of its range only.
+    const binTables: string[] = [];
+    rec.forEach((m, i) =>
+      m.parameters.forEach((p, k) => {
+        if (!p.bins || p.bins.length < 2) return; // one bin: the true value never varied
+        const base = [...f.path, 'recovery', i, 'parameters', k, 'bins'];
+        const body = p.bins
+          .map((_, b) => `<tr><td>${ctx.num([...base, b, 'lower'], 'value')} to ${ctx.num([...base, b, 'upper'], 'value')}</td><td>${ctx.num([...base, b, 'n'], 'count')}</td><td>${ctx.num([...base, b, 'bias'], 'value')}</td><td>${ctx.num([...base, b, 'rmse'], 'value')}</td><td>${ctx.num([...base, b, 'coverage', 'estimate'], 'percent')}</td></tr>`)
+          .join('\n');
+        binTables.push(`<div class="table-wrap"><table class="data"><caption>${ctx.name(p.name)} of ${ctx.name(m.generating)}, by its true value</caption><thead><tr><th>true value</th><th>n</th><th>bias</th><th>RMSE</th><th>coverage</th></tr></thead><tbody>\n${body}\n</tbody></table></div>`);
+      }),
+    );
     return `<p class="how">Only the generating model's own fit has true values to compare with. Points on the dashed line are recovered exactly; r is the correlation of true and fitted values, RMSE the root mean squared error, ${f.phrase}.</p>
 <div class="figs panels">
 ${figures.join('\n')}
@@ -55,6 +67,7 @@ ${figures.join('\n')}
 <div class="table-wrap"><table class="data"><caption>Recovery of each parameter by its own generating model. Coverage: share of datasets whose 95% interval (from the fit's standard error) holds the true value; nominal 95%.</caption>
 <thead><tr><th>generating model</th><th>parameter</th><th>n</th><th>r</th><th>bias</th><th>RMSE</th><th>coverage</th><th>at a bound</th></tr></thead><tbody>
 ${rows.join('\n')}
-</tbody></table></div>`;
+</tbody></table></div>
+${binTables.length ? `<div class="figs">${binTables.join('\n')}</div>` : ''}`;
   },
 };
