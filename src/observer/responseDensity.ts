@@ -28,9 +28,10 @@ const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 const WINDOW = 8.5;
 
 type Kernel = 0 | 1 | 2; // 0: density at r, 1: P(response ≤ r), 2: P(response ≥ r)
+type TailKernel = 1 | 2;
 
 /** Φ(z) for kernel 1, Φ(−z) for kernel 2, exactly 0 or 1 beyond the cut. */
-function tailKernel(kernel: Kernel, z: number): number {
+function tailKernel(kernel: TailKernel, z: number): number {
   if (kernel === 1) return z > KERNEL_CUT ? 1 : z < -KERNEL_CUT ? 0 : normCdf(z);
   return z < -KERNEL_CUT ? 1 : z > KERNEL_CUT ? 0 : normCdf(-z);
 }
@@ -81,9 +82,9 @@ export class ConditionResponse {
     }
   }
 
-  private cur = { c: 0, invSd: 1, pNorm: 1, r: 0, invSm: 1, kernel: 0 as Kernel, stamp: 0 };
+  private cur = { c: 0, invSd: 1, pNorm: 1, r: 0, invSm: 1, kernel: 1 as TailKernel, stamp: 0 };
 
-  /** Node values of g = K·p and g′ (and of p, p′ for the kernel-free parts), once per node per trial. */
+  /** Tail kernels: node values of g = K·p and g′ (and of p, p′ for the kernel-free parts), once per node per trial. */
   private evalNode(k: number): void {
     const { c, invSd, pNorm, r, invSm, kernel, stamp } = this.cur;
     if (this.stampOf[k] === stamp) return;
@@ -93,17 +94,6 @@ export class ConditionResponse {
     const dlogp = -zm * J * invSd + this.nodeCurv[k];
     const z = (r - this.xh[k]) * invSm;
     const sl = this.slope[k];
-    if (kernel === 0) {
-      if (z > KERNEL_CUT || z < -KERNEL_CUT) {
-        this.gVal[k] = 0;
-        this.gDer[k] = 0;
-        return;
-      }
-      const g = Math.exp(-0.5 * (zm * zm + z * z)) * J * pNorm * invSm * INV_SQRT_2PI;
-      this.gVal[k] = g;
-      this.gDer[k] = g * (dlogp + z * invSm * sl);
-      return;
-    }
     const p = Math.exp(-0.5 * zm * zm) * J * pNorm;
     this.pVal[k] = p;
     this.pDer[k] = p * dlogp;
@@ -112,6 +102,175 @@ export class ConditionResponse {
     const K = tailKernel(kernel, z);
     this.gVal[k] = p * K;
     this.gDer[k] = p * (dlogp * K + (kernel === 1 ? -1 : 1) * phi * invSm * sl);
+  }
+
+  /**
+   * Per-segment sub-step rules for the density kernel, trial-independent and
+   * built on first use: the blend of the n0- and (n0+1)-step trapezoid rules
+   * as one weighted point list (measurement, estimate, weight·dm/dv), plus the
+   * end weight and Euler–Maclaurin weight of the blended rule. The same numbers
+   * the per-trial path would compute, without re-interpolating the curve and
+   * re-warping every sub-point on every trial.
+   */
+  private subBuilt: Uint8Array | null = null;
+  private segEnd: Float64Array | null = null;
+  private segEM: Float64Array | null = null;
+  private subFrom: Int32Array | null = null;
+  private subTo: Int32Array | null = null;
+  private subM: number[] = [];
+  private subX: number[] = [];
+  private subW: number[] = [];
+  private subMArr = new Float64Array(0);
+  private subXArr = new Float64Array(0);
+  private subWArr = new Float64Array(0);
+
+  private buildSubRule(i: number): void {
+    const sm = this.obs.motorSd;
+    const { v, xh, slope } = this;
+    const warpM = this.curve!.warpM;
+    const h = v[i + 1] - v[i];
+    const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
+    const segLo = Math.min(xh[i], xh[i + 1]) - over;
+    const segHi = Math.max(xh[i], xh[i + 1]) + over;
+    const q = (segHi - segLo) / (SUBSTEP * sm);
+    this.subFrom![i] = this.subM.length;
+    if (!(q > 1)) {
+      this.segEnd![i] = h;
+      this.segEM![i] = (h * h) / 12;
+    } else {
+      const n0 = Math.min(MAX_SUB, Math.floor(q));
+      const frac = n0 === MAX_SUB ? 0 : q - n0;
+      const w = frac * frac * (3 - 2 * frac);
+      let end = 0;
+      let em = 0;
+      const rules: [number, number][] = w > 0 ? [[n0, 1 - w], [n0 + 1, w]] : [[n0, 1]];
+      for (const [n, weight] of rules) {
+        const d = h / n;
+        end += weight * d;
+        em += (weight * d * d) / 12;
+        for (let s = 1; s < n; s++) {
+          const vs = v[i] + s * d;
+          this.subM.push(warpM.fromU(vs));
+          this.subX.push(hermite(v, xh, slope, i, vs));
+          this.subW.push(weight * d * warpM.dxdu(vs));
+        }
+      }
+      this.segEnd![i] = end;
+      this.segEM![i] = em;
+    }
+    this.subTo![i] = this.subM.length;
+    this.subBuilt![i] = 1;
+  }
+
+  /** The sub-step rules of segments i0..i1, built where missing. */
+  private ensureSubRules(i0: number, i1: number): void {
+    if (!this.subBuilt) {
+      const n = this.v.length;
+      this.subBuilt = new Uint8Array(n);
+      this.segEnd = new Float64Array(n);
+      this.segEM = new Float64Array(n);
+      this.subFrom = new Int32Array(n);
+      this.subTo = new Int32Array(n);
+    }
+    let added = false;
+    for (let i = i0; i <= i1; i++) {
+      if (this.subBuilt[i] || this.breakAfter[i] || !(this.v[i + 1] - this.v[i] > 0)) continue;
+      this.buildSubRule(i);
+      added = true;
+    }
+    if (added) {
+      this.subMArr = Float64Array.from(this.subM);
+      this.subXArr = Float64Array.from(this.subX);
+      this.subWArr = Float64Array.from(this.subW);
+    }
+  }
+
+  /**
+   * ∫ N(r; x̂(v), σ_m²) p(v | x) dv: the density kernel of integrate(), on the
+   * cached sub-step rules. One exp per point; node values carried from one
+   * segment to the next.
+   */
+  private integrateDensity(x: number, r: number): number {
+    const curve = this.curve!;
+    const { v, xh, slope, breakAfter, nodeM, nodeJ, nodeCurv } = this;
+    const sm = this.obs.motorSd;
+    const c = this.noise.center(x);
+    const sd = this.noise.sdAt(x);
+    const warpM = curve.warpM;
+    const i0 = segmentIndex(v, warpM.toU(c - WINDOW * sd));
+    const i1 = segmentIndex(v, warpM.toU(c + WINDOW * sd));
+    this.ensureSubRules(i0, i1);
+    const segEnd = this.segEnd!;
+    const segEM = this.segEM!;
+    const subFrom = this.subFrom!;
+    const subTo = this.subTo!;
+    const sM = this.subMArr;
+    const sX = this.subXArr;
+    const sW = this.subWArr;
+    const reach = KERNEL_CUT * sm;
+    const invSm = 1 / sm;
+    const invSd = 1 / sd;
+    const norm = invSd * INV_SQRT_2PI * invSm * INV_SQRT_2PI;
+    let total = 0;
+    let gPrev = 0;
+    let dPrev = 0;
+    let prevNode = -1;
+    for (let i = i0; i <= i1; i++) {
+      if (breakAfter[i]) continue;
+      const h = v[i + 1] - v[i];
+      if (!(h > 0)) continue;
+      const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
+      const a = xh[i];
+      const b = xh[i + 1];
+      const segLo = (a < b ? a : b) - over;
+      const segHi = (a < b ? b : a) + over;
+      if (!(segHi > r - reach && segLo < r + reach)) continue;
+      // Node values g = K·p and g′ at both ends (the left one carried over).
+      let g0: number;
+      let d0: number;
+      if (prevNode === i) {
+        g0 = gPrev;
+        d0 = dPrev;
+      } else {
+        const zm = (nodeM[i] - c) * invSd;
+        const z = (r - a) * invSm;
+        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+          g0 = 0;
+          d0 = 0;
+        } else {
+          const J = nodeJ[i];
+          g0 = Math.exp(-0.5 * (zm * zm + z * z)) * J * norm;
+          d0 = g0 * (-zm * J * invSd + nodeCurv[i] + z * invSm * slope[i]);
+        }
+      }
+      let g1: number;
+      let d1: number;
+      {
+        const k = i + 1;
+        const zm = (nodeM[k] - c) * invSd;
+        const z = (r - b) * invSm;
+        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+          g1 = 0;
+          d1 = 0;
+        } else {
+          const J = nodeJ[k];
+          g1 = Math.exp(-0.5 * (zm * zm + z * z)) * J * norm;
+          d1 = g1 * (-zm * J * invSd + nodeCurv[k] + z * invSm * slope[k]);
+        }
+      }
+      gPrev = g1;
+      dPrev = d1;
+      prevNode = i + 1;
+      let acc = 0;
+      for (let s = subFrom[i], e = subTo[i]; s < e; s++) {
+        const z = (r - sX[s]) * invSm;
+        if (z > KERNEL_CUT || z < -KERNEL_CUT) continue;
+        const zm = (sM[s] - c) * invSd;
+        acc += sW[s] * Math.exp(-0.5 * (zm * zm + z * z));
+      }
+      total += 0.5 * segEnd[i] * (g0 + g1) + acc * norm - segEM[i] * (d1 - d0);
+    }
+    return total;
   }
 
   /** ∫ K(r, x̂(v)) p(v | x) dv without lapses. */
@@ -126,6 +285,7 @@ export class ConditionResponse {
       if (kernel === 0) return Math.exp(-0.5 * z * z) / (sd * Math.sqrt(2 * Math.PI));
       return kernel === 1 ? normCdf(z) : normCdf(-z);
     }
+    if (kernel === 0) return this.integrateDensity(x, r);
     const curve = this.curve!;
     const { v, xh, slope, breakAfter } = this;
     const warpM = curve.warpM;
@@ -151,7 +311,6 @@ export class ConditionResponse {
       const segHi = Math.max(xh[i], xh[i + 1]) + over;
       const touches = segHi > r - reach && segLo < r + reach;
       if (!touches) {
-        if (kernel === 0) continue;
         // The kernel is 0 or 1 over the whole segment.
         if (!(kernel === 1 ? segHi < r : segLo > r)) continue;
         this.evalNode(i);
@@ -181,7 +340,7 @@ export class ConditionResponse {
   }
 
   /** Composite trapezoid over segment i with n sub-steps, with its end correction. */
-  private subdivided(i: number, n: number, h: number, kernel: Kernel): number {
+  private subdivided(i: number, n: number, h: number, kernel: TailKernel): number {
     const { v } = this;
     const warpM = this.curve!.warpM;
     const { c, invSd, pNorm, r, invSm } = this.cur;
@@ -192,16 +351,9 @@ export class ConditionResponse {
       const vs = v[i] + s * d;
       const xs = hermite(v, this.xh, this.slope, i, vs);
       const z = (r - xs) * invSm;
-      if (z > KERNEL_CUT || z < -KERNEL_CUT) {
-        if (kernel === 0) continue;
-        if (kernel === 1 ? z < 0 : z > 0) continue;
-      }
+      if ((z > KERNEL_CUT || z < -KERNEL_CUT) && (kernel === 1 ? z < 0 : z > 0)) continue;
       const zm = (warpM.fromU(vs) - c) * invSd;
-      if (kernel === 0) acc += Math.exp(-0.5 * (zm * zm + z * z)) * warpM.dxdu(vs) * pNorm * invSm * INV_SQRT_2PI;
-      else {
-        const K = tailKernel(kernel, z);
-        acc += K * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
-      }
+      acc += tailKernel(kernel, z) * Math.exp(-0.5 * zm * zm) * warpM.dxdu(vs) * pNorm;
     }
     return d * acc - ((d * d) / 12) * (this.gDer[i + 1] - this.gDer[i]);
   }
