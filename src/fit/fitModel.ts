@@ -15,7 +15,7 @@ import { bfgs, nelderMead, type MinimizeResult } from '../numerics/optimize.js';
 import { invertSymmetric, numericalHessian } from '../numerics/hessian.js';
 import { latinHypercube } from '../numerics/latinHypercube.js';
 import { streamFromKey } from '../numerics/rng.js';
-import { logLikelihood } from '../observer/responseDensity.js';
+import { lapseFreeTerms, logLikelihoodFromTerms, type LapseFreeTerms } from '../observer/responseDensity.js';
 import type { Dataset } from '../observer/observer.js';
 import { observerFor, type CandidateModel } from './candidate.js';
 import { jacobian, toFree, toParameter } from './transforms.js';
@@ -75,11 +75,29 @@ export interface FitResult {
 const AT_BOUND_Z = 5;
 const FLAT_RATIO = 1e-8;
 
+/**
+ * Lapse-free likelihood terms of the last few parameter vectors, keyed by every
+ * free value except the lapse rate: gradient and Hessian probes along the lapse
+ * rate then cost a sum over trials instead of a new estimate curve. The values
+ * are exactly those a fresh evaluation would give.
+ */
+const TERM_CACHE_SIZE = 4;
+
 export function negLogLikObjective(model: CandidateModel, data: Dataset, failures: string[]): (z: readonly number[]) => number {
+  const lapseIndex = model.free.findIndex((p) => p.name === 'lapseRate');
+  const cache: { key: string; terms: LapseFreeTerms }[] = [];
   return (z) => {
     try {
       const theta = model.free.map((p, i) => toParameter(p, z[i]));
-      const ll = logLikelihood(observerFor(model, theta), data);
+      const key = theta.map((t, i) => (i === lapseIndex ? '' : String(t))).join(',');
+      let terms = cache.find((e) => e.key === key)?.terms;
+      const obs = observerFor(model, theta);
+      if (!terms) {
+        terms = lapseFreeTerms(obs, data);
+        cache.push({ key, terms });
+        if (cache.length > TERM_CACHE_SIZE) cache.shift();
+      }
+      const ll = logLikelihoodFromTerms(terms, obs.lapseRate);
       if (!Number.isFinite(ll)) {
         if (failures.length < 5) failures.push(`non-finite log-likelihood at ${theta.map((t) => t.toPrecision(4)).join(', ')}`);
         return Infinity;

@@ -434,15 +434,54 @@ export function responseModels(obs: Observer, data: Dataset): ConditionResponse[
   return obs.noise.map((noise, c) => (Number.isFinite(lo[c]) ? new ConditionResponse(obs, noise, lo[c], hi[c]) : (null as unknown as ConditionResponse)));
 }
 
-/** Log-likelihood of a dataset; every trial is floored at 1e-300 so the sum is always finite. */
-export function logLikelihood(obs: Observer, data: Dataset): number {
+/**
+ * The per-trial likelihood split around the lapse rate λ:
+ * p_t = (1 − λ)·core_t + λ·lapse_t, where core_t is the lapse-free density (or
+ * censored end mass) and lapse_t the lapse density at the response (1/range
+ * inside the scale, 0 at a censored end or outside). Nothing else depends on λ,
+ * so a fit probing λ alone can reuse the terms (see src/fit/fitModel.ts).
+ */
+export interface LapseFreeTerms {
+  core: Float64Array;
+  lapse: Float64Array;
+}
+
+export function lapseFreeTerms(obs: Observer, data: Dataset): LapseFreeTerms {
   const models = responseModels(obs, data);
+  const { scale } = obs;
+  const range = scale.upper - scale.lower;
+  const tol = 1e-9 * range;
+  const n = data.stimulus.length;
+  const core = new Float64Array(n);
+  const lapse = new Float64Array(n);
+  for (let t = 0; t < n; t++) {
+    const m = models[data.condition[t]];
+    const x = data.stimulus[t];
+    const r = data.response[t];
+    if (scale.ends === 'censor' && r <= scale.lower + tol) core[t] = m.integrate(x, scale.lower, 1);
+    else if (scale.ends === 'censor' && r >= scale.upper - tol) core[t] = m.integrate(x, scale.upper, 2);
+    else {
+      core[t] = m.integrate(x, r, 0);
+      lapse[t] = r >= scale.lower && r <= scale.upper ? 1 / range : 0;
+    }
+  }
+  return { core, lapse };
+}
+
+/** Σ log p_t for the terms at lapse rate λ; every trial is floored at 1e-300 so the sum is always finite. */
+export function logLikelihoodFromTerms(terms: LapseFreeTerms, lapseRate: number): number {
+  const { core, lapse } = terms;
   let s = 0;
-  for (let t = 0; t < data.stimulus.length; t++) {
-    const p = models[data.condition[t]].likelihood(data.stimulus[t], data.response[t]);
+  for (let t = 0; t < core.length; t++) {
+    const p = (1 - lapseRate) * core[t] + lapseRate * lapse[t];
     s += Math.log(p > TINY ? p : TINY);
   }
   return s;
+}
+
+/** Log-likelihood of a dataset; every trial is floored at 1e-300 so the sum is always finite. */
+export function logLikelihood(obs: Observer, data: Dataset): number {
+  return logLikelihoodFromTerms(lapseFreeTerms(obs, data), obs.lapseRate);
 }
 
 export { evaluateClosedForm };
