@@ -385,7 +385,7 @@ export class ConditionResponse {
 }
 
 /** Integration step in warped measurement units (noise sds): spectrally accurate for p(m | x). */
-const INTEGRATION_STEP = 0.5;
+const INTEGRATION_STEP = 0.25;
 
 /**
  * Merge a uniform grid (anchored at v = 0, so it moves continuously with the
