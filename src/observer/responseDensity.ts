@@ -72,6 +72,7 @@ export class ConditionResponse {
     this.pDer = new Float64Array(n);
     this.stampOf = new Int32Array(n).fill(-1);
     if (this.curve) {
+      this.buildSegments();
       const w = this.curve.warpM;
       for (let k = 0; k < n; k++) {
         const vk = this.v[k];
@@ -105,84 +106,92 @@ export class ConditionResponse {
   }
 
   /**
-   * Per-segment sub-step rules for the density kernel, trial-independent and
-   * built on first use: the blend of the n0- and (n0+1)-step trapezoid rules
-   * as one weighted point list (measurement, estimate, weight·dm/dv), plus the
-   * end weight and Euler–Maclaurin weight of the blended rule. The same numbers
-   * the per-trial path would compute, without re-interpolating the curve and
-   * re-warping every sub-point on every trial.
+   * Per-segment quantities of the density kernel, all trial-independent: the
+   * range of x̂ over the segment (chord widened by how far the cubic can stray),
+   * and the blend of the n0- and (n0+1)-step trapezoid rules as an end weight,
+   * an Euler–Maclaurin weight and a weighted point list (measurement, estimate,
+   * weight·dm/dv). Points are built on a segment's first use and kept, so a
+   * trial costs one exp per point and no interpolation or warping.
    */
-  private subBuilt: Uint8Array | null = null;
-  private segEnd: Float64Array | null = null;
-  private segEM: Float64Array | null = null;
-  private subFrom: Int32Array | null = null;
-  private subTo: Int32Array | null = null;
-  private subM: number[] = [];
-  private subX: number[] = [];
-  private subW: number[] = [];
-  private subMArr = new Float64Array(0);
-  private subXArr = new Float64Array(0);
-  private subWArr = new Float64Array(0);
+  private segLo = new Float64Array(0);
+  private segHi = new Float64Array(0);
+  private segEnd = new Float64Array(0);
+  private segEM = new Float64Array(0);
+  private segQ = new Float64Array(0);
+  /** First and past-last point of each segment; subFrom = −1 until built. */
+  private subFrom = new Int32Array(0);
+  private subTo = new Int32Array(0);
+  private subM = new Float64Array(0);
+  private subX = new Float64Array(0);
+  private subW = new Float64Array(0);
+  private subCount = 0;
+
+  private buildSegments(): void {
+    const n = this.v.length;
+    const { v, xh, slope } = this;
+    const sm = this.obs.motorSd;
+    this.segLo = new Float64Array(n);
+    this.segHi = new Float64Array(n);
+    this.segEnd = new Float64Array(n);
+    this.segEM = new Float64Array(n);
+    this.segQ = new Float64Array(n);
+    this.subFrom = new Int32Array(n);
+    this.subTo = new Int32Array(n);
+    for (let i = 0; i + 1 < n; i++) {
+      const h = v[i + 1] - v[i];
+      // Bound on how far the cubic strays from its chord (it bends by the slope change).
+      const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
+      const lo = Math.min(xh[i], xh[i + 1]) - over;
+      const hi = Math.max(xh[i], xh[i + 1]) + over;
+      this.segLo[i] = lo;
+      this.segHi[i] = hi;
+      const q = (hi - lo) / (SUBSTEP * sm);
+      this.segQ[i] = q;
+      this.segEnd[i] = h;
+      this.segEM[i] = (h * h) / 12;
+      this.subFrom[i] = q > 1 ? -1 : 0;
+    }
+  }
 
   private buildSubRule(i: number): void {
-    const sm = this.obs.motorSd;
     const { v, xh, slope } = this;
     const warpM = this.curve!.warpM;
     const h = v[i + 1] - v[i];
-    const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
-    const segLo = Math.min(xh[i], xh[i + 1]) - over;
-    const segHi = Math.max(xh[i], xh[i + 1]) + over;
-    const q = (segHi - segLo) / (SUBSTEP * sm);
-    this.subFrom![i] = this.subM.length;
-    if (!(q > 1)) {
-      this.segEnd![i] = h;
-      this.segEM![i] = (h * h) / 12;
-    } else {
-      const n0 = Math.min(MAX_SUB, Math.floor(q));
-      const frac = n0 === MAX_SUB ? 0 : q - n0;
-      const w = frac * frac * (3 - 2 * frac);
-      let end = 0;
-      let em = 0;
-      const rules: [number, number][] = w > 0 ? [[n0, 1 - w], [n0 + 1, w]] : [[n0, 1]];
-      for (const [n, weight] of rules) {
-        const d = h / n;
-        end += weight * d;
-        em += (weight * d * d) / 12;
-        for (let s = 1; s < n; s++) {
-          const vs = v[i] + s * d;
-          this.subM.push(warpM.fromU(vs));
-          this.subX.push(hermite(v, xh, slope, i, vs));
-          this.subW.push(weight * d * warpM.dxdu(vs));
-        }
+    const q = this.segQ[i];
+    const n0 = Math.min(MAX_SUB, Math.floor(q));
+    const frac = n0 === MAX_SUB ? 0 : q - n0;
+    const w = frac * frac * (3 - 2 * frac);
+    const need = this.subCount + 2 * n0;
+    if (need > this.subM.length) {
+      const cap = Math.max(need, 2 * this.subM.length, 256);
+      const grow = (a: Float64Array) => {
+        const b = new Float64Array(cap);
+        b.set(a.subarray(0, this.subCount));
+        return b;
+      };
+      this.subM = grow(this.subM);
+      this.subX = grow(this.subX);
+      this.subW = grow(this.subW);
+    }
+    this.subFrom[i] = this.subCount;
+    let end = 0;
+    let em = 0;
+    const rules: [number, number][] = w > 0 ? [[n0, 1 - w], [n0 + 1, w]] : [[n0, 1]];
+    for (const [n, weight] of rules) {
+      const d = h / n;
+      end += weight * d;
+      em += (weight * d * d) / 12;
+      for (let s = 1; s < n; s++) {
+        const vs = v[i] + s * d;
+        const k = this.subCount++;
+        this.subM[k] = warpM.fromU(vs);
+        this.subX[k] = hermite(v, xh, slope, i, vs);
+        this.subW[k] = weight * d * warpM.dxdu(vs);
       }
-      this.segEnd![i] = end;
-      this.segEM![i] = em;
     }
-    this.subTo![i] = this.subM.length;
-    this.subBuilt![i] = 1;
-  }
-
-  /** The sub-step rules of segments i0..i1, built where missing. */
-  private ensureSubRules(i0: number, i1: number): void {
-    if (!this.subBuilt) {
-      const n = this.v.length;
-      this.subBuilt = new Uint8Array(n);
-      this.segEnd = new Float64Array(n);
-      this.segEM = new Float64Array(n);
-      this.subFrom = new Int32Array(n);
-      this.subTo = new Int32Array(n);
-    }
-    let added = false;
-    for (let i = i0; i <= i1; i++) {
-      if (this.subBuilt[i] || this.breakAfter[i] || !(this.v[i + 1] - this.v[i] > 0)) continue;
-      this.buildSubRule(i);
-      added = true;
-    }
-    if (added) {
-      this.subMArr = Float64Array.from(this.subM);
-      this.subXArr = Float64Array.from(this.subX);
-      this.subWArr = Float64Array.from(this.subW);
-    }
+    this.subTo[i] = this.subCount;
+    this.segEnd[i] = end;
+    this.segEM[i] = em;
   }
 
   /**
@@ -192,22 +201,16 @@ export class ConditionResponse {
    */
   private integrateDensity(x: number, r: number): number {
     const curve = this.curve!;
-    const { v, xh, slope, breakAfter, nodeM, nodeJ, nodeCurv } = this;
+    const { v, xh, slope, breakAfter, nodeM, nodeJ, nodeCurv, segLo, segHi, segEnd, segEM, subFrom, subTo } = this;
     const sm = this.obs.motorSd;
     const c = this.noise.center(x);
     const sd = this.noise.sdAt(x);
     const warpM = curve.warpM;
     const i0 = segmentIndex(v, warpM.toU(c - WINDOW * sd));
     const i1 = segmentIndex(v, warpM.toU(c + WINDOW * sd));
-    this.ensureSubRules(i0, i1);
-    const segEnd = this.segEnd!;
-    const segEM = this.segEM!;
-    const subFrom = this.subFrom!;
-    const subTo = this.subTo!;
-    const sM = this.subMArr;
-    const sX = this.subXArr;
-    const sW = this.subWArr;
     const reach = KERNEL_CUT * sm;
+    const rLo = r - reach;
+    const rHi = r + reach;
     const invSm = 1 / sm;
     const invSd = 1 / sd;
     const norm = invSd * INV_SQRT_2PI * invSm * INV_SQRT_2PI;
@@ -216,15 +219,7 @@ export class ConditionResponse {
     let dPrev = 0;
     let prevNode = -1;
     for (let i = i0; i <= i1; i++) {
-      if (breakAfter[i]) continue;
-      const h = v[i + 1] - v[i];
-      if (!(h > 0)) continue;
-      const over = 0.25 * h * Math.abs(slope[i] - slope[i + 1]);
-      const a = xh[i];
-      const b = xh[i + 1];
-      const segLo = (a < b ? a : b) - over;
-      const segHi = (a < b ? b : a) + over;
-      if (!(segHi > r - reach && segLo < r + reach)) continue;
+      if (breakAfter[i] || !(segHi[i] > rLo && segLo[i] < rHi) || !(v[i + 1] > v[i])) continue;
       // Node values g = K·p and g′ at both ends (the left one carried over).
       let g0: number;
       let d0: number;
@@ -233,7 +228,7 @@ export class ConditionResponse {
         d0 = dPrev;
       } else {
         const zm = (nodeM[i] - c) * invSd;
-        const z = (r - a) * invSm;
+        const z = (r - xh[i]) * invSm;
         if (z > KERNEL_CUT || z < -KERNEL_CUT) {
           g0 = 0;
           d0 = 0;
@@ -248,7 +243,7 @@ export class ConditionResponse {
       {
         const k = i + 1;
         const zm = (nodeM[k] - c) * invSd;
-        const z = (r - b) * invSm;
+        const z = (r - xh[k]) * invSm;
         if (z > KERNEL_CUT || z < -KERNEL_CUT) {
           g1 = 0;
           d1 = 0;
@@ -262,6 +257,10 @@ export class ConditionResponse {
       dPrev = d1;
       prevNode = i + 1;
       let acc = 0;
+      if (subFrom[i] < 0) this.buildSubRule(i);
+      const sM = this.subM;
+      const sX = this.subX;
+      const sW = this.subW;
       for (let s = subFrom[i], e = subTo[i]; s < e; s++) {
         const z = (r - sX[s]) * invSm;
         if (z > KERNEL_CUT || z < -KERNEL_CUT) continue;
