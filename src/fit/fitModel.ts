@@ -82,6 +82,8 @@ const FLAT_RATIO = 1e-8;
  * are exactly those a fresh evaluation would give.
  */
 const TERM_CACHE_SIZE = 4;
+/** One-sided gradient probes while the gradient exceeds this many tolerances (see bfgs). */
+const FORWARD_DIFFERENCE_FACTOR = 30;
 
 export function negLogLikObjective(model: CandidateModel, data: Dataset, failures: string[]): (z: readonly number[]) => number {
   const lapseIndex = model.free.findIndex((p) => p.name === 'lapseRate');
@@ -177,7 +179,7 @@ export function fitModel(model: CandidateModel, data: Dataset, options: FitOptio
       // likelihood (≲1e-5) cannot dominate the difference quotient; the gradient
       // tolerance (2e-5·|log L|) sits above that roughness, and at the Hessian's
       // curvature it moves the parameters by far less than one standard error.
-      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 2e-5, gradientStep: 1e-3 });
+      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 2e-5, gradientStep: 1e-3, forwardDifferenceFactor: FORWARD_DIFFERENCE_FACTOR });
       if (!r.converged && r.evaluations < budget && Number.isFinite(r.value)) {
         const nm = nelderMead(f, r.x, { maxEvaluations: budget - r.evaluations, initialStep: 0.3, restart: false });
         r = { ...nm, evaluations: r.evaluations + nm.evaluations, reason: `${r.reason}; then ${nm.reason}` };
