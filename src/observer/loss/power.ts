@@ -37,6 +37,13 @@ function absPow(t: number, a: number): number {
  * second-order Taylor expansion of the density, so the remainder behaves like
  * |x − c|^(a+3) and the Gauss–Legendre panels integrate it accurately.
  */
+/**
+ * Set by kinkedExpectation for odd kernels: E|c − x|^(a−1) by the same
+ * singularity subtraction (sharing the powers already computed), so that
+ * a·slopeSum is the derivative of the odd expectation in c, for Newton steps.
+ */
+let slopeSum = 0;
+
 export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd: boolean, kernelRow: Float64Array | null = null): number {
   const n = NODES_PER_PANEL;
   const xs = post.x;
@@ -48,13 +55,18 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   const jLo = pLo * n;
   const jHi = pHi * n + n - 1;
   let s = 0;
+  let s1 = 0;
   for (let j = post.first; j <= post.last; j++) {
     if (j >= jLo && j <= jHi) continue;
     const d = c - xs[j];
     const k = kernelRow ? kernelRow[j] : absPow(d, a);
     s += mass[j] * (odd && d < 0 ? -k : k);
+    if (odd && d !== 0) s1 += (mass[j] * k) / Math.abs(d);
   }
-  if (pLo > pHi) return s;
+  if (pLo > pHi) {
+    slopeSum = s1;
+    return s;
+  }
   // Density in x and its first two derivatives at c (from the panel polynomials).
   const hx = 1e-3 * post.panelHalf[pc] * post.warp.dxdu(uc);
   const g0 = post.densityX(c);
@@ -62,13 +74,14 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   const gm = post.densityX(c - hx);
   const g1 = (gp - gm) / (2 * hx);
   const g2 = (gp - 2 * g0 + gm) / (hx * hx);
-  // Antiderivatives of |s|^b and sgn(s)|s|^b.
-  const E = (t: number, b: number) => ((t < 0 ? -1 : 1) * absPow(t, b + 1)) / (b + 1);
-  const O = (t: number, b: number) => absPow(t, b + 1) / (b + 1);
   const XA = post.warp.fromU(post.panelStart[pLo]) - c;
   const XB = post.warp.fromU(post.panelStart[pHi] + 2 * post.panelHalf[pHi]) - c;
-  if (!odd) s += g0 * (E(XB, a) - E(XA, a)) + g1 * (O(XB, a + 1) - O(XA, a + 1)) + 0.5 * g2 * (E(XB, a + 2) - E(XA, a + 2));
-  else s -= g0 * (O(XB, a) - O(XA, a)) + g1 * (E(XB, a + 1) - E(XA, a + 1)) + 0.5 * g2 * (O(XB, a + 2) - O(XA, a + 2));
+  if (!odd) s += g0 * (evenAnti(XB, a) - evenAnti(XA, a)) + g1 * (oddAnti(XB, a + 1) - oddAnti(XA, a + 1)) + 0.5 * g2 * (evenAnti(XB, a + 2) - evenAnti(XA, a + 2));
+  else {
+    s -= g0 * (oddAnti(XB, a) - oddAnti(XA, a)) + g1 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1)) + 0.5 * g2 * (oddAnti(XB, a + 2) - oddAnti(XA, a + 2));
+    // The slope's kernel |c − x|^(a−1) is even; its subtracted part, exactly.
+    if (a > 0) s1 += g0 * (evenAnti(XB, a - 1) - evenAnti(XA, a - 1)) + g1 * (oddAnti(XB, a) - oddAnti(XA, a)) + 0.5 * g2 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1));
+  }
   for (let j = jLo; j <= jHi; j++) {
     const d = c - xs[j];
     const k = kernelRow ? kernelRow[j] : absPow(d, a);
@@ -76,11 +89,48 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
     const taylor = g0 + g1 * sd + 0.5 * g2 * sd * sd;
     const dxdu = post.warp.dxdu(post.u[j]);
     let val = k * (post.f[j] - dxdu * taylor);
+    if (odd && d !== 0) s1 += (post.quadWeight[j] * val) / Math.abs(d);
     if (odd && d < 0) val = -val;
     s += post.quadWeight[j] * val;
   }
+  slopeSum = s1;
   return s;
 }
+
+/** Antiderivative of |s|^b (as sgn(s)|s|^(b+1)/(b+1)) and of sgn(s)|s|^b (as |s|^(b+1)/(b+1)). */
+function evenAnti(t: number, b: number): number {
+  return ((t < 0 ? -1 : 1) * absPow(t, b + 1)) / (b + 1);
+}
+function oddAnti(t: number, b: number): number {
+  return absPow(t, b + 1) / (b + 1);
+}
+
+/**
+ * Safeguarded Newton iteration for the root of the increasing function
+ * g(c) = E[sgn(c − x)|c − x|^a] inside [lo, hi], with the slope
+ * a·slopeSum; bisection whenever a step leaves the bracket. Returns NaN when it
+ * does not settle (the caller then brackets and uses Brent's method).
+ */
+function newtonRoot(post: GridPosterior, a: number, start: number, lo: number, hi: number): number {
+  const tol = 1e-12 * Math.max(1, Math.abs(start));
+  let x = start;
+  for (let it = 0; it < 40; it++) {
+    const gx = kinkedExpectation(post, x, a, true);
+    if (gx === 0) return x;
+    if (!Number.isFinite(gx)) return NaN;
+    if (gx < 0) lo = x;
+    else hi = x;
+    const dg = a * slopeSum;
+    let next = dg > 0 ? x - gx / dg : NaN;
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    if (Math.abs(next - x) <= tol) return next;
+    x = next;
+  }
+  return NaN;
+}
+
+/** Near a = p − 1 = 0 the slope E|c − x|^(a−1) diverges (at p = 1 it is twice the density); Brent's method there. */
+const NEWTON_MIN_A = 0.2;
 
 function convexEstimate(post: GridPosterior, p: number, hint: number): number {
   const g = (c: number) => kinkedExpectation(post, c, p - 1, true);
@@ -88,6 +138,10 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
   const hi0 = post.x[post.last];
   const mean = post.mean();
   let start = Number.isFinite(hint) && hint > lo0 && hint < hi0 ? hint : mean;
+  if (p - 1 >= NEWTON_MIN_A) {
+    const root = newtonRoot(post, p - 1, start, lo0, hi0);
+    if (Number.isFinite(root)) return root;
+  }
   let step = 0.05 * (hi0 - lo0);
   let a = Math.max(lo0, start - step);
   let b = Math.min(hi0, start + step);
