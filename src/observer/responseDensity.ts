@@ -199,9 +199,26 @@ export class ConditionResponse {
    * cached sub-step rules. One exp per point; node values carried from one
    * segment to the next.
    */
+  /** g′ at the node of the last densityNode call. */
+  private nodeDer = 0;
+
+  /** g = K·p at node k for the density kernel (0 beyond the kernel cut); g′ into nodeDer. */
+  private densityNode(k: number, c: number, r: number, invSd: number, invSm: number, norm: number): number {
+    const z = (r - this.xh[k]) * invSm;
+    if (z > KERNEL_CUT || z < -KERNEL_CUT) {
+      this.nodeDer = 0;
+      return 0;
+    }
+    const zm = (this.nodeM[k] - c) * invSd;
+    const J = this.nodeJ[k];
+    const g = Math.exp(-0.5 * (zm * zm + z * z)) * J * norm;
+    this.nodeDer = g * (-zm * J * invSd + this.nodeCurv[k] + z * invSm * this.slope[k]);
+    return g;
+  }
+
   private integrateDensity(x: number, r: number): number {
     const curve = this.curve!;
-    const { v, xh, slope, breakAfter, nodeM, nodeJ, nodeCurv, segLo, segHi, segEnd, segEM, subFrom, subTo } = this;
+    const { v, breakAfter, segLo, segHi, segEnd, segEM, subFrom, subTo } = this;
     const sm = this.obs.motorSd;
     const c = this.noise.center(x);
     const sd = this.noise.sdAt(x);
@@ -227,32 +244,11 @@ export class ConditionResponse {
         g0 = gPrev;
         d0 = dPrev;
       } else {
-        const zm = (nodeM[i] - c) * invSd;
-        const z = (r - xh[i]) * invSm;
-        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
-          g0 = 0;
-          d0 = 0;
-        } else {
-          const J = nodeJ[i];
-          g0 = Math.exp(-0.5 * (zm * zm + z * z)) * J * norm;
-          d0 = g0 * (-zm * J * invSd + nodeCurv[i] + z * invSm * slope[i]);
-        }
+        g0 = this.densityNode(i, c, r, invSd, invSm, norm);
+        d0 = this.nodeDer;
       }
-      let g1: number;
-      let d1: number;
-      {
-        const k = i + 1;
-        const zm = (nodeM[k] - c) * invSd;
-        const z = (r - xh[k]) * invSm;
-        if (z > KERNEL_CUT || z < -KERNEL_CUT) {
-          g1 = 0;
-          d1 = 0;
-        } else {
-          const J = nodeJ[k];
-          g1 = Math.exp(-0.5 * (zm * zm + z * z)) * J * norm;
-          d1 = g1 * (-zm * J * invSd + nodeCurv[k] + z * invSm * slope[k]);
-        }
-      }
+      const g1 = this.densityNode(i + 1, c, r, invSd, invSm, norm);
+      const d1 = this.nodeDer;
       gPrev = g1;
       dPrev = d1;
       prevNode = i + 1;
