@@ -8,7 +8,7 @@
  */
 import Table from 'cli-table3';
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve as resolvePath } from 'node:path';
 import { bootstrapSummaries, groupSummary, participantSummary, type BootstrapSummary, type EvidenceSource, type NestedPair } from '../analysis/groupFit.js';
 import type { BootstrapLine, ParticipantLine } from '../analysis/participantTypes.js';
@@ -23,6 +23,7 @@ import { nestingOf } from '../fit/nesting.js';
 import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCsv, participantsCsv, predictiveChecksCsv } from '../report/fitOutputs.js';
 import { SUMMARY_VERSION } from '../report/studyOutputs.js';
 import { figureName, predictiveFigure } from '../report/fitFigures.js';
+import { writeFolderAtomically } from '../report/writeFolder.js';
 import { prepareRunFolder, workerCount, writeAtomically, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
@@ -200,11 +201,12 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
   writeAtomically(join(folder, 'group.csv'), groupCsv(group));
   writeAtomically(join(folder, 'predictive-checks.csv'), predictiveChecksCsv(summaries));
   if (replicates > 0) writeAtomically(join(folder, 'bootstrap.csv'), bootstrapCsv(bootstrap));
-  mkdirSync(join(folder, 'figures'), { recursive: true });
+  const figures: Record<string, string> = {};
   for (const p of summaries) {
     const svg = await predictiveFigure(p);
-    if (svg) writeAtomically(join(folder, 'figures', figureName(p.participant)), svg);
+    if (svg) figures[figureName(p.participant)] = svg;
   }
+  writeFolderAtomically(join(folder, 'figures'), figures);
   if (flags.drawsOut) {
     const chosen = drawIds ? summaries.filter((p) => drawIds.includes(p.participant)) : summaries;
     writeAtomically(flags.drawsOut, drawFileCsv(chosen));

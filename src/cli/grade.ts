@@ -3,7 +3,7 @@
  * exported synthetic data, scored like a recovery study. The answers become
  * job lines (one per synthetic participant, keyed as `run` keys them) and go
  * through the same analysis and outputs as `run` (analysis/summarize.ts), so
- * the confusion matrix and parameter recovery read the same way.
+ * the confusion matrix, parameter recovery and report.html read the same way.
  *
  * FITS.csv: columns `participant` and `model`; either one row per participant
  * (the chosen model; 'undecided' or empty for no choice), or one row per
@@ -21,7 +21,7 @@ import { resolveStudy } from '../engine/resolve.js';
 import { parseTruthFile } from '../engine/truthFile.js';
 import { toFree } from '../fit/transforms.js';
 import { studySummary } from '../report/studyOutputs.js';
-import { prepareRunFolder, printStudy, writeAtomically, writeStudyOutputs } from './run.js';
+import { prepareRunFolder, printStudy, writeAtomically, writeReportAfterRun, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
 
 export interface GradeFlags {
@@ -35,7 +35,7 @@ const AT_BOUND_Z = 5; // as in fit/fitModel.ts: |free| beyond 5 is within ~0.7% 
 const TRUE = new Set(['true', '1', 'yes', 'TRUE', 'True']);
 const FALSE = new Set(['false', '0', 'no', 'FALSE', 'False', '']);
 
-export function gradeCommand(truthPath: string, flags: GradeFlags, toolVersion: string): void {
+export async function gradeCommand(truthPath: string, flags: GradeFlags, toolVersion: string): Promise<void> {
   if (!flags.fits) throw new UserError('grade needs the answers to score: --fits FITS.csv');
   let json: unknown;
   try {
@@ -116,6 +116,7 @@ export function gradeCommand(truthPath: string, flags: GradeFlags, toolVersion: 
   writeAtomically(join(folder, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
   const summary = studySummary(study, lines, toolVersion);
   writeStudyOutputs(folder, summary, lines);
+  const reportPath = await writeReportAfterRun(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printStudy(summary, folder);
+  else printStudy(summary, folder, reportPath);
 }

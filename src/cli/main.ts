@@ -5,6 +5,7 @@ import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
+import { reportCommand } from './report.js';
 import { fitCommand } from './fit.js';
 import { exportCommand } from './exportData.js';
 import { gradeCommand } from './grade.js';
@@ -48,6 +49,11 @@ async function main(argv: string[]): Promise<void> {
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => runCommand(file, opts, version));
   program
+    .command('report')
+    .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')
+    .argument('<folder>', 'run folder (holds summary.json and scenario.json)')
+    .action(async (folder: string) => reportCommand(folder));
+  program
     .command('fit')
     .description("fit every candidate model to every participant's data; per-participant comparison and random-effects model selection")
     .argument('<scenario>', 'scenario file (YAML or JSON) with the candidate models')
@@ -88,7 +94,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--out <folder>', 'run folder (default results/<name>-grade)')
     .option('--overwrite', 'replace an existing run folder')
     .option('--json', 'print summary.json to standard output instead of tables')
-    .action((truth: string, opts) => gradeCommand(truth, opts, version));
+    .action(async (truth: string, opts) => gradeCommand(truth, opts, version));
   await program.parseAsync(argv);
 }
 
