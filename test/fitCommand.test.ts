@@ -68,6 +68,7 @@ describe('round trip: export → fit → grade equals run on the same seed', () 
     const a = summaryOf(ref.folder);
     const b = summaryOf(graded);
     expect(b.confusion).toEqual(a.confusion);
+    expect(exists(join(graded, 'report.html'))).toBe(true);
     expect(b.accuracy).toEqual(a.accuracy);
     expectSame(b.overall, a.overall);
     // The fitted values themselves survive the CSV exactly: same log-likelihoods as run's jobs.
