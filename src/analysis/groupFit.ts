@@ -49,6 +49,8 @@ export interface ModelFitSummary {
   aicc: number | null;
   bic: number | null;
   crossValidatedLogLikelihood: number | null;
+  /** The likelihood is flat along some direction at the optimum (a parameter combination the data cannot fix). */
+  flatDirection: boolean;
   /** Criterion value minus the best one (criterion units, −2 log L scale). */
   differenceToBest: number | null;
   /** Akaike/Schwarz weight exp(−Δ/2)/Σ exp(−Δ/2). */
@@ -150,6 +152,7 @@ export function participantSummary(line: ParticipantLine): ParticipantSummary {
       aicc: f.aicc,
       bic: f.bic,
       crossValidatedLogLikelihood: f.cvLogLikelihood ?? null,
+      flatDirection: f.flatDirection,
       differenceToBest: cmp?.delta[f.model] ?? null,
       weight: cmp?.weight[f.model] ?? null,
       parameters: f.parameters.map((p) => ({

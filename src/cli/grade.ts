@@ -8,7 +8,7 @@
  * FITS.csv: columns `participant` and `model`; either one row per participant
  * (the chosen model; 'undecided' or empty for no choice), or one row per
  * participant and fitted model with a `chosen` column (true/false). Optional:
- * `fit_status` (ok/failed), `log_likelihood`, `aic`, `aicc`, `bic`, and per
+ * `fit_status` (ok/failed), `flat_direction` (true/false), `log_likelihood`, `aic`, `aicc`, `bic`, and per
  * parameter a column named as the parameter (e.g. `motorSd`) with optional
  * `<name>.lower95` and `<name>.upper95`. `lossprobe fit` writes model-fits.csv
  * in exactly this form. Extra columns are ignored.
@@ -87,7 +87,7 @@ export async function gradeCommand(truthPath: string, flags: GradeFlags, toolVer
         const free = toFree(p, value);
         return { name: p.name, value, se: NaN, lower95: num(cells, `${p.name}.lower95`, line) ?? NaN, upper95: num(cells, `${p.name}.upper95`, line) ?? NaN, free, freeSe: NaN, atBound: Math.abs(free) > AT_BOUND_Z };
       });
-    a.fits.push({ model: name, status, reason: 'read from the fits file', logLikelihood: num(cells, 'log_likelihood', line), k: model.free.length, aic: num(cells, 'aic', line), aicc: num(cells, 'aicc', line), bic: num(cells, 'bic', line), parameters, flatDirection: false, evaluations: 0 });
+    a.fits.push({ model: name, status, reason: 'read from the fits file', logLikelihood: num(cells, 'log_likelihood', line), k: model.free.length, aic: num(cells, 'aic', line), aicc: num(cells, 'aicc', line), bic: num(cells, 'bic', line), parameters, flatDirection: TRUE.has(cells.flat_direction ?? ''), evaluations: 0 });
   }
   for (const [id, a] of answers) if (a.chosen.length > 1) problems.push(`participant '${id}': ${a.chosen.length} models are marked as chosen (${a.chosen.join(', ')}); mark at most one`);
   if (problems.length) throw new UserError(problemList(flags.fits, problems));

@@ -20,12 +20,12 @@ export function modelFitsCsv(ps: readonly ParticipantSummary[]): string {
       const byName = new Map(m.parameters.map((q) => [q.name, q]));
       rows.push([
         p.participant, p.trials, m.model, m.fitStatus, m.model === p.decision, p.decision, m.logLikelihood, m.freeParameters, m.aic, m.aicc, m.bic,
-        m.crossValidatedLogLikelihood, m.differenceToBest, m.weight, m.predictiveCheck?.ksDistance, m.predictiveCheck?.ksCritical5Percent,
+        m.crossValidatedLogLikelihood, m.differenceToBest, m.weight, m.predictiveCheck?.ksDistance, m.predictiveCheck?.ksCritical5Percent, m.flatDirection,
         ...names.flatMap((n) => [byName.get(n)?.estimate, byName.get(n)?.lower95, byName.get(n)?.upper95]),
       ]);
     }
   return csv(
-    ['participant', 'trials', 'model', 'fit_status', 'chosen', 'decision', 'log_likelihood', 'free_parameters', 'aic', 'aicc', 'bic', 'cv_log_likelihood', 'difference_to_best', 'weight', 'predictive_ks_distance', 'predictive_ks_critical_5_percent', ...names.flatMap((n) => [n, `${n}.lower95`, `${n}.upper95`])],
+    ['participant', 'trials', 'model', 'fit_status', 'chosen', 'decision', 'log_likelihood', 'free_parameters', 'aic', 'aicc', 'bic', 'cv_log_likelihood', 'difference_to_best', 'weight', 'predictive_ks_distance', 'predictive_ks_critical_5_percent', 'flat_direction', ...names.flatMap((n) => [n, `${n}.lower95`, `${n}.upper95`])],
     rows,
   );
 }
