@@ -29,6 +29,8 @@ async function main(argv: string[]): Promise<void> {
     .option('--scale <lower,upper>', 'response scale ends, e.g. 0,100')
     .option('--motor-sd <sd>', 'motor noise sd')
     .option('--out <folder>', 'output folder (default results/<name>-preview)')
+    .option('--target <p>', 'accuracy the predicted trial counts aim for (default 0.8)')
+    .option('--no-analytic', 'skip distinguishability, Fisher information and predicted accuracy')
     .action(async (file: string | undefined, opts) => printPreview(await runPreview(file, opts)));
   program
     .command('run')

@@ -26,6 +26,25 @@ export const modelSchema = previewModelSchema.extend({
 
 const trialsSchema = z.union([z.number().int().min(10), z.array(z.number().int().min(10)).min(1)]);
 
+const trialListSchema = z
+  .union([
+    z.string().min(1).describe('CSV file with columns stimulus and condition (path relative to the scenario file)'),
+    z.strictObject({ stimulus: z.array(z.number()).min(1), condition: z.array(z.string()).min(1) }),
+  ])
+  .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution');
+
+/** A design variant: a name and the design fields it replaces in the base scenario. */
+export const variantSchema = z.strictObject({
+  name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only'),
+  description: z.string().optional(),
+  stimulus: distributionSchema.optional().describe('stimulus distribution of this variant'),
+  trialList: trialListSchema.optional(),
+  conditions: z.array(conditionSchema).min(1).optional().describe('conditions (noise levels) of this variant; names must stay those the models refer to'),
+  response: responseSchema.optional(),
+  trials: trialsSchema.optional(),
+});
+export type DesignVariant = z.infer<typeof variantSchema>;
+
 export const scenarioSchema = z
   .strictObject({
     name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only').default('study'),
@@ -33,13 +52,7 @@ export const scenarioSchema = z
     seed: z.number().int().nonnegative().default(1),
     prior: distributionSchema.describe("the observer's prior"),
     stimulus: distributionSchema.optional().describe('stimulus distribution (default: the prior)'),
-    trialList: z
-      .union([
-        z.string().min(1).describe('CSV file with columns stimulus and condition (path relative to the scenario file)'),
-        z.strictObject({ stimulus: z.array(z.number()).min(1), condition: z.array(z.string()).min(1) }),
-      ])
-      .optional()
-      .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution'),
+    trialList: trialListSchema.optional(),
     conditions: z.array(conditionSchema).min(1, 'at least one condition is needed'),
     response: responseSchema,
     models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
@@ -62,8 +75,14 @@ export const scenarioSchema = z
         folds: z.number().int().min(2).max(20).default(5).describe('folds for the cv criterion'),
       })
       .prefault({}),
+    variants: z.array(variantSchema).optional().describe('design variants that preview and size compare with the base design'),
   })
   .superRefine((s, ctx) => {
+    const variantNames = new Set<string>(['base']);
+    (s.variants ?? []).forEach((v, i) => {
+      if (variantNames.has(v.name)) ctx.addIssue({ code: 'custom', message: `variant name '${v.name}' is used twice (or is the reserved name 'base')`, path: ['variants', i, 'name'] });
+      variantNames.add(v.name);
+    });
     const names = s.models.map((m) => m.name);
     const seen = new Set<string>();
     names.forEach((n, i) => {
