@@ -1,0 +1,38 @@
+/** Tidy CSV files of a trial-count sweep (see analysis/sizing.ts for the numbers). */
+import type { Sizing } from '../analysis/sizing.js';
+import { csvTable } from './csv.js';
+
+export interface SizedDesign {
+  variant: string;
+  folder: string;
+  sizing: Sizing;
+}
+
+/** One row per (target, generating model, trial count). */
+export function sizingCsv(s: Sizing): string {
+  const rows: unknown[][] = [];
+  const add = (target: string, points: Sizing['points']) => {
+    for (const p of points)
+      rows.push([target, p.generating, p.trials, p.observers, p.successes, p.failed, p.rate, p.lower, p.upper, p.simultaneousLower, p.simultaneousUpper, p.wilsonLower, p.wilsonUpper, p.fitted]);
+  };
+  add('model', s.points);
+  if (s.parameter) add(`parameter:${s.parameter.name}`, s.parameter.points);
+  return csvTable(['target', 'generating', 'trials', 'observers', 'successes', 'failed', 'rate', 'lower_95', 'upper_95', 'lower_simultaneous', 'upper_simultaneous', 'wilson_lower', 'wilson_upper', 'monotone_fit'], rows);
+}
+
+/** One row per (target, generating model): the smallest trial count reaching the target. */
+export function sizingNeededCsv(s: Sizing): string {
+  const rows: unknown[][] = [];
+  for (const n of [...s.needed, s.neededAll]) rows.push(['model', n.generating, s.target, n.trials, n.lower, n.upper]);
+  if (s.parameter) for (const n of [...s.parameter.needed, s.parameter.neededAll]) rows.push([`parameter:${s.parameter.name}`, n.generating, s.target, n.trials, n.lower, n.upper]);
+  return csvTable(['target', 'generating', 'target_rate', 'trials_needed', 'above', 'at_most'], rows);
+}
+
+export function sizingDesignsCsv(ranking: { variant: string; trials: number | null; lower: number | null; upper: number | null; byModel: Record<string, number | null> }[]): string {
+  const rows: unknown[][] = [];
+  ranking.forEach((r, i) => {
+    rows.push([i + 1, r.variant, 'every generating model', r.trials, r.lower, r.upper]);
+    for (const [m, t] of Object.entries(r.byModel)) rows.push([i + 1, r.variant, m, t, null, null]);
+  });
+  return csvTable(['rank', 'design', 'generating', 'trials_needed', 'above', 'at_most'], rows);
+}
