@@ -9,7 +9,7 @@
  *
  * Responses: the trapezoid rule on the union of a coarse uniform grid over the
  * whole scale (where only lapses reach) and a fine grid (2/3 of a motor sd)
- * over the response core, the central 1 − 2·10⁻⁶ of the non-lapse response
+ * over the response core, the central 1 − 2·10⁻⁸ of the non-lapse response
  * distribution, found by bisection on its cdf. Every response density is a
  * Gaussian motor kernel convolved with something, and the trapezoid rule on a
  * step of ⅔ σ integrates such smooth, decaying integrands to near machine
@@ -46,7 +46,7 @@ const TINY = 1e-300;
 const COARSE = 48;
 const FINE_STEP = 2 / 3;
 const MAX_FINE = 160;
-const CORE_TAIL = 1e-6;
+const CORE_TAIL = 1e-8;
 
 /** The design's stimuli: midpoint quantiles per condition, or the trial list's values. */
 export function stimulusNodes(stimulus: Distribution, conditions: number, perCondition = 16, trialList?: { stimulus: number[]; condition: number[] }): StimulusNode[] {
@@ -109,9 +109,13 @@ export function expectationGrid(obs: Observer, nodes: readonly StimulusNode[]): 
     const lo = ends === 'censor' ? lower + inset : Math.min(lower, a);
     const hi = ends === 'censor' ? upper - inset : Math.max(upper, b);
     const pts = new Set<number>();
-    for (let i = 0; i <= COARSE; i++) pts.add(lo + ((hi - lo) * i) / COARSE);
     const fa = Math.max(lo, a);
     const fb = Math.min(hi, b);
+    // Coarse points only outside the core: inside it the grid stays uniform, which the trapezoid rule's accuracy needs.
+    for (let i = 0; i <= COARSE; i++) {
+      const r = lo + ((hi - lo) * i) / COARSE;
+      if (!(r > fa && r < fb)) pts.add(r);
+    }
     if (fb > fa) {
       const steps = Math.min(MAX_FINE, Math.max(8, Math.ceil((fb - fa) / (FINE_STEP * obs.motorSd))));
       for (let i = 0; i <= steps; i++) pts.add(fa + ((fb - fa) * i) / steps);
