@@ -19,6 +19,7 @@
 import { bfgs } from '../numerics/optimize.js';
 import { observerFor, observerFromValues, type CandidateModel } from '../fit/candidate.js';
 import { toFree, toParameter } from '../fit/transforms.js';
+import { nestingOf } from '../fit/nesting.js';
 import { expectationGrid, logDensityOn, type ExpectationGrid, type StimulusNode } from './expectationGrid.js';
 
 /** Below this many nats per trial, no realistic study separates two models (10⁵ trials for one nat). */
@@ -59,15 +60,23 @@ export function ratioMoments(g: ExpectationGrid, logQ: Float64Array): { mean: nu
   return { mean: m, variance: v };
 }
 
-/** Start the search where the generating model's shared parameters are (an equivalent model then starts at its optimum). */
-function startValues(candidate: CandidateModel, truth: Record<string, number>): number[] {
+/**
+ * Start the search where the generating model's shared parameters are, and,
+ * when the candidate's family contains the generating one (fit/nesting.ts),
+ * at the loss parameter value that reproduces it: an equivalent or nesting
+ * candidate then starts at its optimum and costs one evaluation.
+ */
+function startValues(candidate: CandidateModel, generating: CandidateModel, truth: Record<string, number>): number[] {
+  const nest = nestingOf(candidate.lossFamily, generating.lossFamily);
+  const at = nest && nest.outer === candidate.lossFamily ? /^(\w+) = (-?[\d.]+)$/.exec(nest.at) : null;
+  const inner: Record<string, number> = at ? { [`loss.${at[1]}`]: Number(at[2]) } : {};
   return candidate.free.map((p) => {
-    const v = p.name in truth ? truth[p.name] : candidate.base[p.name];
+    const v = p.name in inner ? inner[p.name] : p.name in truth ? truth[p.name] : candidate.base[p.name];
     return toFree(p, Math.min(p.upper, Math.max(p.lower, v)));
   });
 }
 
-export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel, nodes: readonly StimulusNode[], maxEvaluations = 400): Divergence {
+export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel, nodes: readonly StimulusNode[], maxEvaluations = 250): Divergence {
   const g = gen.grid;
   const klAt = (z: readonly number[]): number => {
     try {
@@ -77,7 +86,7 @@ export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel
       return Infinity;
     }
   };
-  const z0 = startValues(candidate, gen.values);
+  const z0 = startValues(candidate, gen.model, gen.values);
   let best = { x: z0, value: klAt(z0), evaluations: 1, converged: true };
   if (candidate.free.length > 0 && best.value > ZERO_DIVERGENCE / 10) {
     const r = bfgs(klAt, z0, { maxEvaluations, initialStep: 1, gradientTolerance: 1e-7, gradientStep: 1e-4, fTolerance: 1e-9 });
