@@ -106,6 +106,8 @@ export interface Sizing extends SizingTargetResult {
   monotoneFit: { method: string; why: string };
   monotonicity: MonotonicityCheck;
   parameter?: ParameterTarget & SizingTargetResult & { success: string };
+  /** The analytic preview's prediction at the same counts, to set against the simulation. */
+  predicted?: { method: string; points: { generating: string; trials: number; p: number }[]; trialsNeeded: Record<string, number | null> };
   caution: string;
 }
 

@@ -15,6 +15,7 @@ import { sizing, type Sizing, type ParameterTarget } from '../analysis/sizing.js
 import { studySummary } from '../report/studyOutputs.js';
 import { sizingCsv, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
 import { jsonSafe } from '../analysis/jsonSafe.js';
+import { analyticPreview } from '../design/analyticPreview.js';
 import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
 
@@ -126,6 +127,13 @@ async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions
     margin: fitting.margin,
     parameter: o.parameter,
   });
+  // The analytic prediction at the same counts, beside the simulated accuracies.
+  const analytic = analyticPreview(study.scenario, study.candidates, study.generating, { target: o.target, atTrials: study.trialCounts });
+  result.predicted = {
+    method: analytic.predicted.method,
+    points: analytic.predicted.atTrials.flatMap((a) => Object.entries(a.byModel).map(([generating, p]) => ({ generating, trials: a.trials, p }))),
+    trialsNeeded: analytic.predicted.trialsNeeded,
+  };
   const summary = { ...studySummary(study, out.lines, toolVersion), sizing: jsonSafe(result) };
   writeStudyOutputs(folder, summary, out.lines);
   writeAtomically(join(folder, 'sizing.csv'), sizingCsv(result));
@@ -181,6 +189,12 @@ function printSizing(sized: SizedDesign[], ranking: DesignRank[]): void {
     }
     console.log(t.toString());
     for (const n of [...s.needed, s.neededAll]) console.log(`  ${n.statement}`);
+    if (s.predicted)
+      console.log(
+        `  Analytic prediction (normal approximation) for comparison: ${gens.map((g) => `${g} ${s.predicted!.trialsNeeded[g] ?? 'never'}`).join(', ')} trials; at the sweep's counts ${gens
+          .map((g) => `${g} ${s.trialCounts.map((t) => pct(s.predicted!.points.find((p) => p.generating === g && p.trials === t)?.p ?? null)).join('/')}`)
+          .join('; ')}.`,
+      );
     if (s.parameter) {
       console.log(`  Parameter target (${s.parameter.success}):`);
       for (const n of [...s.parameter.needed]) console.log(`    ${n.statement}`);

@@ -56,6 +56,8 @@ export interface AnalyticPreview {
     trialsNeeded: Record<string, number | null>;
     /** Smallest count at which every generating model reaches the target; null when some never does. */
     trialsNeededAll: number | null;
+    /** The same prediction at the trial counts asked for (e.g. a sweep's). */
+    atTrials: { trials: number; byModel: Record<string, number> }[];
   };
   responseMoments: ResponseMoment[];
   statements: string[];
@@ -78,11 +80,14 @@ export function typicalValues(s: Scenario, model: CandidateModel): Record<string
 export function designNodes(s: Scenario, perCondition = 16): StimulusNode[] {
   const list = s.trialList && typeof s.trialList !== 'string' ? s.trialList : undefined;
   const names = s.conditions.map((c) => c.name);
+  const counts = names.map((n) => s.split?.[n] ?? 1);
+  const total = counts.reduce((a, b) => a + b, 0);
   return stimulusNodes(
     createDistribution(s.stimulus ?? s.prior),
     s.conditions.length,
     perCondition,
     list ? { stimulus: list.stimulus, condition: list.condition.map((c) => names.indexOf(c)) } : undefined,
+    counts.map((c) => c / total),
   );
 }
 
@@ -103,7 +108,7 @@ function pairText(a: string, b: string, label: PairLabel | null, klAB: number | 
   return `${a} and ${b}: neither generates synthetic observers here, so their distinguishability is not computed.`;
 }
 
-export function analyticPreview(s: Scenario, candidates: CandidateModel[], generating: string[], options: { target?: number; trials?: number } = {}): AnalyticPreview {
+export function analyticPreview(s: Scenario, candidates: CandidateModel[], generating: string[], options: { target?: number; trials?: number; atTrials?: readonly number[] } = {}): AnalyticPreview {
   const target = options.target ?? 0.8;
   const nodes = designNodes(s);
   const names = candidates.map((c) => c.name);
@@ -134,9 +139,13 @@ export function analyticPreview(s: Scenario, candidates: CandidateModel[], gener
   });
 
   const criterion = s.fitting.criterion as CriterionName;
-  const curve = TRIAL_GRID.map((n) => {
+  const predictAt = (n: number) => {
     const byModel: Record<string, number> = {};
     for (const g of rows) byModel[g] = predictedCorrect([...div.values()].filter((d) => d.generating === g), k, g, n, criterion);
+    return byModel;
+  };
+  const curve = TRIAL_GRID.map((n) => {
+    const byModel = predictAt(n);
     const overall = rows.reduce((acc, g) => acc + byModel[g], 0) / rows.length;
     return { trials: n, byModel, overall };
   });
@@ -195,6 +204,7 @@ export function analyticPreview(s: Scenario, candidates: CandidateModel[], gener
       curve,
       trialsNeeded,
       trialsNeededAll,
+      atTrials: (options.atTrials ?? []).map((n) => ({ trials: n, byModel: predictAt(n) })),
     },
     responseMoments,
     statements,

@@ -2,8 +2,8 @@
  * Expectations over one trial of a design under a generating observer, by
  * quadrature instead of simulation: E f(x, r) = Σ_x w_x Σ_r w_r p_i(r | x) f(x, r).
  *
- * Stimuli: each condition gets an equal share of trials (the engine's
- * condition-balanced sequences); within a condition, midpoint quantiles of the
+ * Stimuli: each condition gets its share of trials (equal, or as the
+ * scenario's split says: the engine's condition-balanced blocks); within a condition, midpoint quantiles of the
  * stimulus distribution (x_k = Q((k + ½)/K), weight 1/K), or the listed values
  * of an explicit trial list weighted by how often they are listed.
  *
@@ -48,8 +48,17 @@ const FINE_STEP = 2 / 3;
 const MAX_FINE = 160;
 const CORE_TAIL = 1e-8;
 
-/** The design's stimuli: midpoint quantiles per condition, or the trial list's values. */
-export function stimulusNodes(stimulus: Distribution, conditions: number, perCondition = 16, trialList?: { stimulus: number[]; condition: number[] }): StimulusNode[] {
+/**
+ * The design's stimuli: midpoint quantiles per condition, or the trial list's
+ * values. `shares` gives each condition's share of trials (default equal).
+ */
+export function stimulusNodes(
+  stimulus: Distribution,
+  conditions: number,
+  perCondition = 16,
+  trialList?: { stimulus: number[]; condition: number[] },
+  shares: readonly number[] = new Array<number>(conditions).fill(1 / conditions),
+): StimulusNode[] {
   const nodes: StimulusNode[] = [];
   for (let c = 0; c < conditions; c++) {
     if (trialList) {
@@ -60,9 +69,9 @@ export function stimulusNodes(stimulus: Distribution, conditions: number, perCon
         counts.set(x, (counts.get(x) ?? 0) + 1);
         total++;
       });
-      for (const [x, k] of [...counts.entries()].sort((a, b) => a[0] - b[0])) nodes.push({ condition: c, x, weight: k / total / conditions });
+      for (const [x, k] of [...counts.entries()].sort((a, b) => a[0] - b[0])) nodes.push({ condition: c, x, weight: (k / total) * shares[c] });
     } else {
-      for (let k = 0; k < perCondition; k++) nodes.push({ condition: c, x: stimulus.quantile((k + 0.5) / perCondition), weight: 1 / perCondition / conditions });
+      for (let k = 0; k < perCondition; k++) nodes.push({ condition: c, x: stimulus.quantile((k + 0.5) / perCondition), weight: shares[c] / perCondition });
     }
   }
   return nodes;

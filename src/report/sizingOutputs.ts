@@ -13,11 +13,14 @@ export function sizingCsv(s: Sizing): string {
   const rows: unknown[][] = [];
   const add = (target: string, points: Sizing['points']) => {
     for (const p of points)
-      rows.push([target, p.generating, p.trials, p.observers, p.successes, p.failed, p.rate, p.lower, p.upper, p.simultaneousLower, p.simultaneousUpper, p.wilsonLower, p.wilsonUpper, p.fitted]);
+      rows.push([
+        target, p.generating, p.trials, p.observers, p.successes, p.failed, p.rate, p.lower, p.upper, p.simultaneousLower, p.simultaneousUpper, p.wilsonLower, p.wilsonUpper, p.fitted,
+        target === 'model' ? (s.predicted?.points.find((q) => q.generating === p.generating && q.trials === p.trials)?.p ?? null) : null,
+      ]);
   };
   add('model', s.points);
   if (s.parameter) add(`parameter:${s.parameter.name}`, s.parameter.points);
-  return csvTable(['target', 'generating', 'trials', 'observers', 'successes', 'failed', 'rate', 'lower_95', 'upper_95', 'lower_simultaneous', 'upper_simultaneous', 'wilson_lower', 'wilson_upper', 'monotone_fit'], rows);
+  return csvTable(['target', 'generating', 'trials', 'observers', 'successes', 'failed', 'rate', 'lower_95', 'upper_95', 'lower_simultaneous', 'upper_simultaneous', 'wilson_lower', 'wilson_upper', 'monotone_fit', 'predicted_analytic'], rows);
 }
 
 /** One row per (target, generating model): the smallest trial count reaching the target. */

@@ -42,6 +42,7 @@ export const variantSchema = z.strictObject({
   conditions: z.array(conditionSchema).min(1).optional().describe('conditions (noise levels) of this variant; names must stay those the models refer to'),
   response: responseSchema.optional(),
   trials: trialsSchema.optional(),
+  split: z.record(z.string(), z.number().int().min(1).max(20)).optional().describe('trials per block for each condition (e.g. {brief: 2, long: 1})'),
 });
 export type DesignVariant = z.infer<typeof variantSchema>;
 
@@ -57,7 +58,11 @@ export const scenarioSchema = z
     response: responseSchema,
     models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
     measurements: z.array(z.number()).optional(),
-    trials: trialsSchema.default(240).describe('trials per observer, split evenly across conditions; a list runs a sweep'),
+    trials: trialsSchema.default(240).describe('trials per observer, split evenly across conditions (or by split); a list runs a sweep'),
+    split: z
+      .record(z.string(), z.number().int().min(1).max(20))
+      .optional()
+      .describe('uneven trial split: how many trials of each condition every block holds (e.g. {brief: 2, long: 1}); default one each'),
     generate: z
       .strictObject({
         models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
@@ -104,6 +109,8 @@ export const scenarioSchema = z
       });
       for (const c of names) if (!tl.condition.includes(c)) ctx.addIssue({ code: 'custom', message: `condition '${c}' has no trials in the trial list`, path: ['trialList'] });
     }
+    for (const name of Object.keys(s.split ?? {}))
+      if (!s.conditions.some((c) => c.name === name)) ctx.addIssue({ code: 'custom', message: `'${name}' is not one of the conditions (${s.conditions.map((c) => c.name).join(', ')})`, path: ['split', name] });
     const cond = new Set<string>();
     s.conditions.forEach((c, i) => {
       if (cond.has(c.name)) ctx.addIssue({ code: 'custom', message: `condition name '${c.name}' is used twice`, path: ['conditions', i, 'name'] });
