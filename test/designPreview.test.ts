@@ -17,6 +17,7 @@ import { streamFromKey } from '../src/numerics/rng.js';
 import { loadStudy } from '../src/engine/resolve.js';
 import { readScenario } from '../src/scenario/variants.js';
 import { resolveStudy } from '../src/engine/resolve.js';
+import { syntheticDataset } from '../src/engine/syntheticObserver.js';
 
 /** KL(N(μ1, s1²) ‖ N(μ2, s2²)) = log(s2/s1) + (s1² + (μ1−μ2)²)/(2 s2²) − ½ (Kullback, Information Theory and Statistics, 1959). */
 const klGauss = (m1: number, s1: number, m2: number, s2: number) => Math.log(s2 / s1) + (s1 * s1 + (m1 - m2) ** 2) / (2 * s2 * s2) - 0.5;
@@ -144,5 +145,23 @@ describe('predicted accuracy', () => {
     const sep = { ...nested, kl: 0.01, variance: 0.02 };
     expect(pairwiseWin(sep, 3, 3, 400, 'bic')).toBeGreaterThan(pairwiseWin(sep, 3, 3, 100, 'bic'));
     expect(trialsToReach(TRIAL_GRID.map((t) => ({ trials: t, p: t >= 300 ? 0.9 : 0.5 })), 0.8)).toBe(TRIAL_GRID.find((t) => t >= 300));
+  });
+});
+
+describe('uneven trial split', () => {
+  it('deals each block in the split proportions and weights the preview by them', () => {
+    const s = readScenario('scenarios/skewed-magnitudes.yaml');
+    s.conditions.push({ name: 'long-flash', noise: { family: 'constant', sd: 4 } });
+    s.split = { 'brief-flash': 2, 'long-flash': 1 };
+    s.trials = 90;
+    const study = resolveStudy(s, 'split');
+    const { full } = syntheticDataset(study, 'squared', 0);
+    for (let b = 0; b < 30; b++) {
+      const block = Array.from(full.condition.slice(3 * b, 3 * b + 3)).sort();
+      expect(block).toEqual([0, 0, 1]);
+    }
+    const nodes = designNodes(study.scenario);
+    const share = nodes.filter((n) => n.condition === 0).reduce((a, n) => a + n.weight, 0);
+    expect(share).toBeCloseTo(2 / 3, 12);
   });
 });

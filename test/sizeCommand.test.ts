@@ -78,6 +78,25 @@ describe('lossprobe size', () => {
     expect(sizingOf(cut)).toEqual(ref);
   });
 
+  it('writes the sweep figure', () => {
+    expect(readText(join(referenceSweep(), 'figures', 'sizing-accuracy.svg'))).toMatch(/^<svg/);
+  });
+
+  it('preview ranks the variants side by side and writes preview.json', () => {
+    const out = join(tempDir(), 'preview');
+    const r = lossprobe(['preview', FIXTURE, '--out', out]);
+    expect(r.status).toBe(0);
+    expect(r.stdout).toMatch(/Designs side by side/);
+    expect(r.stdout).toMatch(/narrow/);
+    const p = JSON.parse(readText(join(out, 'preview.json')));
+    expect(p.version).toBe(1);
+    expect(p.designs.map((d: { variant: string }) => d.variant)).toEqual(['base', 'narrow']);
+    const base = p.designs[0].analytic;
+    expect(base.pairs[0].label).toBe('separable');
+    expect(base.fisher[0].parameters).toEqual(['noise.standard.sd', 'motorSd']);
+    expect(parseCsv(readText(join(out, 'distinguishability.csv')))[0]).toEqual(['design', 'generating', 'candidate', 'kl_per_trial', 'llr_variance_per_trial', 'pair_label']);
+  });
+
   it('rejects bad flags and bad variants with exit code 2, naming the problem', () => {
     const out = join(tempDir(), 'bad');
     const a = lossprobe(['size', FIXTURE, '--out', out, '--parameter', 'noise.standard.sd']);

@@ -60,6 +60,9 @@ export function printAnalytic(designs: DesignPreview[]): void {
     a.divergence.rows.forEach((r, i) => t.push([r, ...a.divergence.kl[i].map((v, j) => (a.divergence.columns[j] === r ? '·' : nats(v)))]));
     console.log(t.toString());
     for (const st of a.statements) console.log(`  ${st}`);
+    console.log(
+      `  Predicted trials per observer for ${Math.round(100 * a.predicted.target)}% correct choices: ${a.generating.map((g) => `${g} ${a.predicted.trialsNeeded[g] ?? 'never (within 20000)'}`).join(', ')}.`,
+    );
     const f = new Table({ head: ['model', 'parameter', 'typical value', `predicted SE at ${a.fisher[0]?.trials ?? '?'} trials`], ...plain });
     for (const m of a.fisher) m.parameters.forEach((p, i) => f.push([m.model, p, se(a.typical[m.model][p]), se(m.se[i])]));
     if (a.fisher.length) console.log(f.toString());

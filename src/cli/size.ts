@@ -5,7 +5,7 @@
  * run folder with summary.json's `sizing` object and tidy CSV files.
  */
 import Table from 'cli-table3';
-import { writeFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { applyOverrides, resolveStudy, type ResolvedStudy } from '../engine/resolve.js';
@@ -13,7 +13,7 @@ import { adaptiveSweep } from '../engine/adaptiveSweep.js';
 import { readScenario, designVariants } from '../scenario/variants.js';
 import { sizing, type Sizing, type ParameterTarget } from '../analysis/sizing.js';
 import { studySummary } from '../report/studyOutputs.js';
-import { sizingCsv, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
+import { sizingCsv, sizingFigure, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
 import { jsonSafe } from '../analysis/jsonSafe.js';
 import { analyticPreview } from '../design/analyticPreview.js';
 import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs } from './run.js';
@@ -93,12 +93,12 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
   if (sized.length > 1) {
     // The base folder's summary also carries the side-by-side comparison.
     const path = join(root, 'summary.json');
-    const summary = JSON.parse((await import('node:fs')).readFileSync(path, 'utf8')) as { sizing: Sizing & { designs?: unknown } };
+    const summary = JSON.parse(readFileSync(path, 'utf8')) as { sizing: Sizing & { designs?: unknown } };
     summary.sizing.designs = ranking;
     writeAtomically(path, JSON.stringify(summary, null, 2) + '\n');
     writeAtomically(join(root, 'sizing-designs.csv'), sizingDesignsCsv(ranking));
   }
-  if (flags.json) process.stdout.write((await import('node:fs')).readFileSync(join(root, 'summary.json'), 'utf8'));
+  if (flags.json) process.stdout.write(readFileSync(join(root, 'summary.json'), 'utf8'));
   else printSizing(sized, ranking);
 }
 
@@ -138,6 +138,8 @@ async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions
   writeStudyOutputs(folder, summary, out.lines);
   writeAtomically(join(folder, 'sizing.csv'), sizingCsv(result));
   writeAtomically(join(folder, 'sizing-needed.csv'), sizingNeededCsv(result));
+  mkdirSync(join(folder, 'figures'), { recursive: true });
+  writeAtomically(join(folder, 'figures', 'sizing-accuracy.svg'), await sizingFigure(result));
   writeFileSync(
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: o.workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: out.ran, jobsFailed: out.failed, rounds: out.rule.rounds, finished: new Date().toISOString() }, null, 2) + '\n',

@@ -1,6 +1,7 @@
 /** Tidy CSV files of a trial-count sweep (see analysis/sizing.ts for the numbers). */
 import type { Sizing } from '../analysis/sizing.js';
 import { csvTable } from './csv.js';
+import { lineChart, type Series } from './charts.js';
 
 export interface SizedDesign {
   variant: string;
@@ -38,4 +39,24 @@ export function sizingDesignsCsv(ranking: { variant: string; trials: number | nu
     for (const [m, t] of Object.entries(r.byModel)) rows.push([i + 1, r.variant, m, t, null, null]);
   });
   return csvTable(['rank', 'design', 'generating', 'trials_needed', 'above', 'at_most'], rows);
+}
+
+/** Accuracy against log10 trials per generating model: observed, monotone fit and (dashed by series) the analytic prediction. */
+export async function sizingFigure(s: Sizing): Promise<string> {
+  const series: Series[] = [];
+  for (const g of [...new Set(s.points.map((p) => p.generating))]) {
+    const pts = s.points.filter((p) => p.generating === g && p.rate !== null);
+    series.push({ name: `${g} observed`, x: pts.map((p) => Math.log10(p.trials)), y: pts.map((p) => p.rate!) });
+    series.push({ name: `${g} monotone fit`, x: pts.map((p) => Math.log10(p.trials)), y: pts.map((p) => p.fitted ?? NaN) });
+    const pred = (s.predicted?.points ?? []).filter((p) => p.generating === g);
+    if (pred.length) series.push({ name: `${g} predicted`, x: pred.map((p) => Math.log10(p.trials)), y: pred.map((p) => p.p) });
+  }
+  const xs = s.trialCounts.map((t) => Math.log10(t));
+  return lineChart({
+    title: 'Share of datasets whose generating model was chosen, by trial count',
+    xTitle: 'log10(trials per observer)',
+    yTitle: 'accuracy',
+    series,
+    reference: { name: 'target', x: [Math.min(...xs), Math.max(...xs)], y: [s.target, s.target] },
+  });
 }
