@@ -114,7 +114,8 @@ interface DesignOptions {
 
 async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions, toolVersion: string): Promise<Sizing | null> {
   const started = Date.now();
-  const out = await adaptiveSweep(study, { folder, workers: o.workers, quiet: o.quiet, initial: o.initial, batch: o.batch, max: o.max, target: o.target, alpha: 0.05, parameter: o.parameter });
+  const onRound = o.quiet ? undefined : (round: number, jobs: number) => process.stderr.write(`${folder}: round ${round + 1}, ${jobs} job${jobs === 1 ? '' : 's'}\n`);
+  const out = await adaptiveSweep(study, { folder, workers: o.workers, quiet: o.quiet, initial: o.initial, batch: o.batch, max: o.max, target: o.target, alpha: 0.05, parameter: o.parameter, onRound });
   if (out.interrupted) return null;
   const fitting = study.scenario.fitting;
   const result = sizing(out.lines, {
