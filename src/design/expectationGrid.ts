@@ -69,7 +69,13 @@ export function stimulusNodes(
         counts.set(x, (counts.get(x) ?? 0) + 1);
         total++;
       });
-      for (const [x, k] of [...counts.entries()].sort((a, b) => a[0] - b[0])) nodes.push({ condition: c, x, weight: (k / total) * shares[c] });
+      if (counts.size <= 2 * perCondition) {
+        for (const [x, k] of [...counts.entries()].sort((a, b) => a[0] - b[0])) nodes.push({ condition: c, x, weight: (k / total) * shares[c] });
+      } else {
+        // Many distinct values: midpoint quantiles of the listed values keep the cost fixed.
+        const sorted = trialList.stimulus.filter((_, i) => trialList.condition[i] === c).sort((a, b) => a - b);
+        for (let k = 0; k < perCondition; k++) nodes.push({ condition: c, x: sorted[Math.min(sorted.length - 1, Math.floor(((k + 0.5) / perCondition) * sorted.length))], weight: shares[c] / perCondition });
+      }
     } else {
       for (let k = 0; k < perCondition; k++) nodes.push({ condition: c, x: stimulus.quantile((k + 0.5) / perCondition), weight: shares[c] / perCondition });
     }
