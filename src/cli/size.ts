@@ -16,25 +16,16 @@ import { studySummary } from '../report/studyOutputs.js';
 import { sizingCsv, sizingFigure, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
 import { jsonSafe } from '../analysis/jsonSafe.js';
 import { analyticPreview } from '../design/analyticPreview.js';
-import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs } from './run.js';
+import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
-export interface SizeFlags {
-  trials?: string;
+export interface SizeFlags extends RunFlags {
   target?: string;
-  observers?: string;
   maxObservers?: string;
   batch?: string;
   parameter?: string;
   exclude?: string;
   width?: string;
-  seed?: string;
-  workers?: string;
-  out?: string;
-  resume?: boolean;
-  overwrite?: boolean;
-  json?: boolean;
-  quiet?: boolean;
 }
 
 function proportionFlag(flag: string, v: string | undefined, fallback: number): number {
