@@ -10,7 +10,7 @@ import type { Scenario } from '../scenario/schema.js';
 import type { CandidateModel } from '../fit/candidate.js';
 import { createDistribution } from '../observer/distributions/registry.js';
 import { stimulusNodes, type StimulusNode } from './expectationGrid.js';
-import { generatingGrid, minimumDivergence, pairLabel, type Divergence, type GeneratingGrid, type PairLabel } from './distinguishability.js';
+import { generatingGrid, minimumDivergence, pairLabel, ZERO_DIVERGENCE, type Divergence, type GeneratingGrid, type PairLabel } from './distinguishability.js';
 import { fisherInformation, type FisherSummary } from './fisherInformation.js';
 import { predictedCorrect, TRIAL_GRID, trialsToReach, type CriterionName } from './predictedAccuracy.js';
 import type { DrawSpec } from '../scenario/schema.js';
@@ -97,14 +97,20 @@ function pairText(a: string, b: string, label: PairLabel | null, klAB: number | 
   if (label === 'equivalent')
     return `${a} and ${b} predict the same responses under this design (divergence below 1e-5 nats per trial both ways): no number of trials can tell them apart. Change the design (a skewed stimulus distribution, noise that grows with the stimulus) rather than adding trials.`;
   if (label === 'nested') {
-    const [inner, outer] = kA < kB || (klAB !== null && klAB < 1e-5 && !(klBA !== null && klBA < 1e-5)) ? [a, b] : [b, a];
+    // The inner model is the one the other reproduces; when each reproduces the other, the one with fewer parameters.
+    const zeroAB = klAB !== null && klAB < ZERO_DIVERGENCE;
+    const zeroBA = klBA !== null && klBA < ZERO_DIVERGENCE;
+    const aInner = zeroAB && !zeroBA ? true : zeroBA && !zeroAB ? false : kA <= kB;
+    const [inner, outer] = aInner ? [a, b] : [b, a];
     const back = inner === a ? klBA : klAB;
     return `${inner} is nested in ${outer} here: ${outer} reproduces ${inner}'s responses exactly, so data from ${inner} favour ${inner} only through the criterion's penalty on ${outer}'s extra parameter(s)${
-      back !== null && back >= 1e-5 ? `; data from ${outer} at its typical parameters differ from ${inner} by ${fmt(back)} nats per trial` : `; at the typical parameters ${outer} does not differ from ${inner} either, so its extra parameter is not identified by this design`
+      back !== null && back >= ZERO_DIVERGENCE ? `; data from ${outer} at its typical parameters differ from ${inner} by ${fmt(back)} nats per trial` : `; at the typical parameters ${outer} does not differ from ${inner} either, so its extra parameter is not identified by this design`
     }.`;
   }
   if (label === 'separable')
     return `${a} and ${b} are separable: ${[klAB !== null ? `${fmt(klAB)} nats per trial from ${a} to ${b}` : null, klBA !== null ? `${fmt(klBA)} from ${b} to ${a}` : null].filter(Boolean).join(', ')} (about ${Math.ceil(3 / Math.max(klAB ?? 0, klBA ?? 0))} trials give 3 nats of evidence on average).`;
+  if (klAB !== null) return `${b} reproduces the responses of ${a} under this design; ${b} does not generate synthetic observers here, so the other direction is not computed.`;
+  if (klBA !== null) return `${a} reproduces the responses of ${b} under this design; ${a} does not generate synthetic observers here, so the other direction is not computed.`;
   return `${a} and ${b}: neither generates synthetic observers here, so their distinguishability is not computed.`;
 }
 
@@ -128,7 +134,7 @@ export function analyticPreview(s: Scenario, candidates: CandidateModel[], gener
       const klAB = div.get(`${names[a]}|${names[b]}`)?.kl ?? null;
       const klBA = div.get(`${names[b]}|${names[a]}`)?.kl ?? null;
       // With one side not generating, the missing direction is unknown: label only what is known.
-      const label = klAB !== null && klBA !== null ? pairLabel(klAB, klBA, k[names[a]], k[names[b]]) : klAB !== null && klAB >= 1e-5 ? 'separable' : klBA !== null && klBA >= 1e-5 ? 'separable' : null;
+      const label = klAB !== null && klBA !== null ? pairLabel(klAB, klBA, k[names[a]], k[names[b]]) : (klAB ?? klBA ?? 0) >= ZERO_DIVERGENCE ? 'separable' : null;
       pairs.push({ a: names[a], b: names[b], klAB, klBA, label, text: pairText(names[a], names[b], label, klAB, klBA, k[names[a]], k[names[b]]) });
     }
 
