@@ -183,7 +183,8 @@ export function analyticPreview(s: Scenario, candidates: CandidateModel[], gener
     if (f.nearSingular) statements.push(`Model ${f.model}: the information matrix is near singular (eigenvalue ratio ${f.conditionRatio.toExponential(1)}); some combination of its parameters is barely informed by this design.`);
     f.correlation?.forEach((row, i) =>
       row.forEach((r, j) => {
-        if (j > i && r !== null && Math.abs(r) > 0.8) statements.push(`Model ${f.model}: estimates of ${f.parameters[i]} and ${f.parameters[j]} are predicted to correlate at ${r.toFixed(2)} (a trade-off).`);
+        if (j > i && r !== null && Math.abs(r) > 0.5)
+          statements.push(`Model ${f.model}: estimates of ${f.parameters[i]} and ${f.parameters[j]} are predicted to correlate at ${r.toFixed(2)} (${Math.abs(r) > 0.8 ? 'a strong' : 'a moderate'} trade-off).`);
       }),
     );
   }
