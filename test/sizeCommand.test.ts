@@ -57,6 +57,7 @@ describe('lossprobe size', () => {
     expect(csv.length - 1).toBe(16);
     expect(exists(join(folder, 'variants', 'narrow', 'summary.json'))).toBe(true);
     expect(exists(join(folder, 'sizing-designs.csv'))).toBe(true);
+    expect(summaryOf(folder).variants.map((v: { name: string }) => v.name)).toEqual(['base', 'narrow']);
   });
 
   it('accuracy with nested prefixes does not fall beyond a one-sided Bonferroni-corrected test', () => {

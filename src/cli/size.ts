@@ -12,7 +12,7 @@ import { applyOverrides, resolveStudy, type ResolvedStudy } from '../engine/reso
 import { adaptiveSweep } from '../engine/adaptiveSweep.js';
 import { readScenario, designVariants } from '../scenario/variants.js';
 import { sizing, type Sizing, type ParameterTarget } from '../analysis/sizing.js';
-import { studySummary } from '../report/studyOutputs.js';
+import { studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { sizingCsv, sizingFigure, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
 import { jsonSafe } from '../analysis/jsonSafe.js';
 import { analyticPreview } from '../design/analyticPreview.js';
@@ -78,14 +78,16 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
       process.stderr.write(`lossprobe: interrupted; finished jobs are kept in ${d.folder}/jobs.jsonl. Continue with --resume.\n`);
       process.exit(130);
     }
-    sized.push({ variant: d.variant, folder: d.folder, sizing: result });
+    sized.push({ variant: d.variant, folder: d.folder, sizing: result.sizing, overall: result.overall });
   }
   const ranking = rankDesigns(sized);
   if (sized.length > 1) {
     // The base folder's summary also carries the side-by-side comparison.
     const path = join(root, 'summary.json');
-    const summary = JSON.parse(readFileSync(path, 'utf8')) as { sizing: Sizing & { designs?: unknown } };
+    const summary = JSON.parse(readFileSync(path, 'utf8')) as { sizing: Sizing & { designs?: unknown }; variants?: unknown };
     summary.sizing.designs = ranking;
+    // Each design's recovery summary over all its jobs, for side-by-side views (e.g. the HTML report).
+    summary.variants = sized.map((d) => ({ name: d.variant, folder: d.folder, overall: d.overall }));
     writeAtomically(path, JSON.stringify(summary, null, 2) + '\n');
     writeAtomically(join(root, 'sizing-designs.csv'), sizingDesignsCsv(ranking));
   }
@@ -103,7 +105,7 @@ interface DesignOptions {
   quiet?: boolean;
 }
 
-async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions, toolVersion: string): Promise<Sizing | null> {
+async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions, toolVersion: string): Promise<{ sizing: Sizing; overall: StudySummary['overall'] } | null> {
   const started = Date.now();
   const onRound = o.quiet ? undefined : (round: number, jobs: number) => process.stderr.write(`${folder}: round ${round + 1}, ${jobs} job${jobs === 1 ? '' : 's'}\n`);
   const out = await adaptiveSweep(study, { folder, workers: o.workers, quiet: o.quiet, initial: o.initial, batch: o.batch, max: o.max, target: o.target, alpha: 0.05, parameter: o.parameter, onRound });
@@ -136,7 +138,7 @@ async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: o.workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: out.ran, jobsFailed: out.failed, rounds: out.rule.rounds, finished: new Date().toISOString() }, null, 2) + '\n',
   );
-  return result;
+  return { sizing: result, overall: summary.overall };
 }
 
 export interface DesignRank {

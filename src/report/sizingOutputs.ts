@@ -7,6 +7,8 @@ export interface SizedDesign {
   variant: string;
   folder: string;
   sizing: Sizing;
+  /** The design's recovery summary over all its jobs. */
+  overall?: unknown;
 }
 
 /** One row per (target, generating model, trial count). */
