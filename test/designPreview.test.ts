@@ -165,3 +165,20 @@ describe('uneven trial split', () => {
     expect(share).toBeCloseTo(2 / 3, 12);
   });
 });
+
+describe('predicted response moments', () => {
+  it('match the conjugate Gaussian closed form', () => {
+    // r | x ~ N(a x + b, a²σs² + σm²) with a = σp²/(σp²+σs²), b = σs²μp/(σp²+σs²) (Gelman et al., BDA ch. 2).
+    const s = readScenario('scenarios/gaussian-control.yaml');
+    s.response = { ...s.response, ends: 'open', lapseRate: 0 };
+    s.generate.parameters = {};
+    s.models = [{ name: 'squared', loss: { family: 'squared' }, free: ['noise.standard.sd', 'motorSd'] } as (typeof s.models)[number]];
+    const study = resolveStudy(s, 'gaussian-control, open scale, no lapses');
+    const a = analyticPreview(study.scenario, study.candidates, ['squared']);
+    const slope = 64 / (64 + 16);
+    for (const m of a.responseMoments) {
+      expect(m.mean).toBeCloseTo(slope * m.stimulus, 6);
+      expect(m.sd).toBeCloseTo(Math.sqrt(slope * slope * 16 + 1), 6);
+    }
+  });
+});

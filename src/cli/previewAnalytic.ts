@@ -63,6 +63,19 @@ export function printAnalytic(designs: DesignPreview[]): void {
     console.log(
       `  Predicted trials per observer for ${Math.round(100 * a.predicted.target)}% correct choices: ${a.generating.map((g) => `${g} ${a.predicted.trialsNeeded[g] ?? 'never (within 20000)'}`).join(', ')}.`,
     );
+    for (const cond of [...new Set(a.responseMoments.map((m) => m.condition))]) {
+      const xs = [...new Set(a.responseMoments.filter((m) => m.condition === cond).map((m) => m.stimulus))];
+      // Five of the stimulus nodes, spread over the distribution.
+      const pick = [...new Set([0.1, 0.3, 0.5, 0.7, 0.9].map((q) => xs[Math.min(xs.length - 1, Math.floor(q * xs.length))]))];
+      const m = new Table({ head: [`${cond}: stimulus`, ...a.generating.map((g) => `${g}: mean ± sd`)], ...plain });
+      for (const x of pick)
+        m.push([se(x), ...a.generating.map((g) => {
+          const r = a.responseMoments.find((q) => q.model === g && q.condition === cond && q.stimulus === x)!;
+          return `${se(r.mean)} ± ${se(r.sd)}`;
+        })]);
+      console.log(`Predicted response by stimulus (${cond}):`);
+      console.log(m.toString());
+    }
     const f = new Table({ head: ['model', 'parameter', 'typical value', `predicted SE at ${a.fisher[0]?.trials ?? '?'} trials`], ...plain });
     for (const m of a.fisher) m.parameters.forEach((p, i) => f.push([m.model, p, se(a.typical[m.model][p]), se(m.se[i])]));
     if (a.fisher.length) console.log(f.toString());
