@@ -189,7 +189,7 @@ function targetResult(lines: readonly JobLine[], o: SizingOptions, success: Succ
         if (ok === null) continue;
         n++;
         if (ok) s++;
-        if (l.status === 'failed') failed++;
+        if (l.status === 'failed' || l.comparison?.status === 'failed') failed++;
       }
       const cs = confidenceSequence(s, n, o.rule.rho, o.rule.alpha);
       const sim = confidenceSequence(s, n, o.rule.rho, o.rule.pointAlpha);
