@@ -8,7 +8,7 @@ import fc from 'fast-check';
 import jStat from 'jstat';
 import { confidenceSequence, mixtureBoundary, tunedRho } from '../src/analysis/confidenceSequence.js';
 import { isotonic } from '../src/analysis/isotonic.js';
-import { monotonicityCheck, sizing, type SizingOptions, type SizingRule } from '../src/analysis/sizing.js';
+import { monotonicityCheck, parameterSuccess, sizing, type SizingOptions, type SizingRule } from '../src/analysis/sizing.js';
 import type { JobLine } from '../src/analysis/types.js';
 import { streamFromKey } from '../src/numerics/rng.js';
 
@@ -135,5 +135,24 @@ describe('trials needed', () => {
     const none = sizing(sweepLines(counts, { a: [4, 8, 12, 16], b: [36, 38, 40, 40] }), options(counts));
     expect(none.needed[0].trials).toBeNull();
     expect(none.needed[0].statement).toMatch(/no trial count in the range/);
+  });
+});
+
+describe('parameter targets', () => {
+  it('count an observer when the generating model’s 95% interval excludes the value or is narrow enough', () => {
+    const withInterval = (lower: number, upper: number, generating = 'a'): JobLine => {
+      const l = line(generating, 0, 100, generating);
+      l.fits[generating === 'a' ? 0 : 1].parameters = [{ name: 'loss.exponent', value: (lower + upper) / 2, se: 0.1, lower95: lower, upper95: upper, free: 0, freeSe: 0.1, atBound: false }];
+      return l;
+    };
+    const excl = parameterSuccess({ name: 'loss.exponent', exclude: 2 });
+    expect(excl(withInterval(2.1, 2.9))).toBe(true);
+    expect(excl(withInterval(1.5, 2.5))).toBe(false);
+    expect(excl(withInterval(1.2, 1.99))).toBe(true);
+    const narrow = parameterSuccess({ name: 'loss.exponent', width: 0.5 });
+    expect(narrow(withInterval(1.5, 1.9))).toBe(true);
+    expect(narrow(withInterval(1.5, 2.1))).toBe(false);
+    // A line whose generating model lacks the parameter says nothing.
+    expect(excl(line('b', 0, 100, 'b'))).toBeNull();
   });
 });
