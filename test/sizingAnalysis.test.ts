@@ -8,7 +8,8 @@ import fc from 'fast-check';
 import jStat from 'jstat';
 import { confidenceSequence, mixtureBoundary, tunedRho } from '../src/analysis/confidenceSequence.js';
 import { isotonic } from '../src/analysis/isotonic.js';
-import { monotonicityCheck, parameterSuccess, sizing, type SizingOptions, type SizingRule } from '../src/analysis/sizing.js';
+import { parameterSuccess, sizing, type SizingOptions, type SizingRule } from '../src/analysis/sizing.js';
+import { monotonicityCheck } from '../src/analysis/monotonicity.js';
 import type { JobLine } from '../src/analysis/types.js';
 import { streamFromKey } from '../src/numerics/rng.js';
 

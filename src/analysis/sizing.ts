@@ -16,18 +16,18 @@
  * points): if the true curve is non-decreasing, it lies below
  * min_{t' ≥ t} upper(t') and above max_{t' ≤ t} lower(t'), so the crossing
  * lies between where those envelopes cross the target.
- *
- * Monotonicity check: for successive counts, observers present at both are
- * paired (nested prefixes) and a one-sided exact McNemar test (McNemar 1947,
- * Psychometrika 12) asks whether accuracy fell; p-values are compared with
- * α divided by the number of comparisons (Bonferroni).
+ * The monotonicity check is in monotonicity.ts.
  */
-import jStat from 'jstat';
 import type { JobLine } from './types.js';
-import { jobOutcome, type OutcomeOptions } from './outcome.js';
+import type { OutcomeOptions } from './outcome.js';
+import { modelSuccess, parameterSuccess, type ParameterTarget, type Success } from './sizingSuccess.js';
+
+export type { ParameterTarget } from './sizingSuccess.js';
+export { modelSuccess, parameterSuccess } from './sizingSuccess.js';
 import { wilsonInterval } from './wilson.js';
 import { confidenceSequence } from './confidenceSequence.js';
 import { isotonic } from './isotonic.js';
+import { monotonicityCheck, type MonotonicityCheck } from './monotonicity.js';
 
 export const SIZING_VERSION = 1;
 
@@ -45,11 +45,6 @@ export interface SizingRule {
   decision: string;
 }
 
-export interface ParameterTarget {
-  name: string;
-  exclude?: number;
-  width?: number;
-}
 
 export interface SizingPoint {
   generating: string;
@@ -81,14 +76,6 @@ export interface TrialsNeeded {
   statement: string;
 }
 
-export interface MonotonicityCheck {
-  test: string;
-  comparisons: number;
-  alpha: number;
-  /** Successive-count comparisons whose one-sided p-value falls below alpha / comparisons. */
-  falls: { generating: string; from: number; to: number; worse: number; better: number; p: number }[];
-  smallestP: number | null;
-}
 
 export interface SizingTargetResult {
   points: SizingPoint[];
@@ -118,27 +105,6 @@ export interface SizingOptions extends OutcomeOptions {
   target: number;
   rule: SizingRule;
   parameter?: ParameterTarget;
-}
-
-type Success = (line: JobLine) => boolean | null;
-
-export function modelSuccess(candidates: readonly string[], options: OutcomeOptions): Success {
-  return (l) => {
-    const o = jobOutcome(l, candidates, options);
-    return o.kind === 'won' && o.winner === l.generating;
-  };
-}
-
-/** null: this line says nothing about the parameter (another model, or its fit lacks it). */
-export function parameterSuccess(p: ParameterTarget): Success {
-  return (l) => {
-    const fit = l.fits.find((f) => f.model === l.generating && f.status === 'ok');
-    const est = fit?.parameters.find((q) => q.name === p.name);
-    if (!est) return l.status === 'failed' ? false : null;
-    if (!Number.isFinite(est.lower95) || !Number.isFinite(est.upper95)) return false;
-    if (p.exclude !== undefined) return p.exclude < est.lower95 || p.exclude > est.upper95;
-    return est.upper95 - est.lower95 <= (p.width ?? Infinity);
-  };
 }
 
 function interpolateLog(t0: number, t1: number, y0: number, y1: number, target: number): number {
@@ -222,35 +188,6 @@ function targetResult(lines: readonly JobLine[], o: SizingOptions, success: Succ
     o.target,
   );
   return { points, overall: overall.map(({ i: _i, ...rest }) => rest), needed: needs, neededAll: all };
-}
-
-export function monotonicityCheck(lines: readonly JobLine[], o: SizingOptions, alpha: number): MonotonicityCheck {
-  const counts = [...o.trialCounts].sort((a, b) => a - b);
-  const ok = modelSuccess(o.candidates, o);
-  const byKey = new Map<string, boolean>();
-  for (const l of lines) byKey.set(`${l.generating}|${l.observer}|${l.trials}`, ok(l) === true);
-  const comparisons = Math.max(1, (counts.length - 1) * o.generating.length);
-  const falls: MonotonicityCheck['falls'] = [];
-  let smallestP: number | null = null;
-  for (const g of o.generating)
-    for (let i = 0; i + 1 < counts.length; i++) {
-      let worse = 0;
-      let better = 0;
-      for (const l of lines) {
-        if (l.generating !== g || l.trials !== counts[i]) continue;
-        const next = byKey.get(`${g}|${l.observer}|${counts[i + 1]}`);
-        if (next === undefined) continue;
-        const now = byKey.get(`${g}|${l.observer}|${counts[i]}`)!;
-        if (now && !next) worse++;
-        if (!now && next) better++;
-      }
-      // One-sided exact McNemar: P(Binomial(worse + better, ½) ≥ worse).
-      const m = worse + better;
-      const p = m === 0 ? 1 : 1 - (worse > 0 ? jStat.binomial.cdf(worse - 1, m, 0.5) : 0);
-      smallestP = smallestP === null ? p : Math.min(smallestP, p);
-      if (p < alpha / comparisons) falls.push({ generating: g, from: counts[i], to: counts[i + 1], worse, better, p });
-    }
-  return { test: 'one-sided exact McNemar test on observers paired across successive trial counts, Bonferroni-corrected', comparisons, alpha, falls, smallestP };
 }
 
 export const SIZING_CAUTION =

@@ -11,7 +11,8 @@
  */
 import type { JobLine } from '../analysis/types.js';
 import { confidenceSequence, tunedRho } from '../analysis/confidenceSequence.js';
-import { modelSuccess, parameterSuccess, type ParameterTarget, type SizingRule } from '../analysis/sizing.js';
+import { modelSuccess, parameterSuccess, type ParameterTarget } from '../analysis/sizingSuccess.js';
+import type { SizingRule } from '../analysis/sizing.js';
 import { jobKey, type JobSpec } from './plan.js';
 import { runStudy } from './runStudy.js';
 import type { ResolvedStudy } from './resolve.js';
