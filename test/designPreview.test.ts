@@ -4,6 +4,7 @@
  * log-likelihood ratio against simulation on the skewed demo.
  */
 import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
 import { defineCandidate, observerFromValues } from '../src/fit/candidate.js';
 import { expectationGrid, logDensityOn, stimulusNodes } from '../src/design/expectationGrid.js';
 import { generatingGrid, minimumDivergence, pairLabel, ratioMoments, ZERO_DIVERGENCE } from '../src/design/distinguishability.js';
@@ -57,6 +58,29 @@ describe('KL divergence per trial (expectation grid)', () => {
     const expected = nodes.reduce((acc, n) => acc + n.weight * klGauss(p(n.x).mean, p(n.x).sd, q(n.x).mean, q(n.x).sd), 0);
     expect(expected).toBeGreaterThan(0.05);
     expect(Math.abs(mean - expected)).toBeLessThan(1e-5 * expected);
+  });
+
+  it('is zero from a model to itself, never negative, and matches Kullback for random Gaussian pairs', () => {
+    const nodes = stimulusNodes(new Gaussian(1, 5), 1, 8);
+    fc.assert(
+      fc.property(fc.double({ min: 1, max: 6, noNaN: true }), fc.double({ min: 0.5, max: 3, noNaN: true }), fc.double({ min: 1, max: 6, noNaN: true }), fc.double({ min: 0.5, max: 3, noNaN: true }), (s1, m1, s2, m2) => {
+        const P = linearObserver(s1, m1);
+        const Q = linearObserver(s2, m2);
+        const grid = expectationGrid(P, nodes);
+        expect(Math.abs(ratioMoments(grid, logDensityOn(P, grid, nodes)).mean)).toBeLessThan(1e-12);
+        const kl = ratioMoments(grid, logDensityOn(Q, grid, nodes)).mean;
+        const mom = (sd: number, motor: number) => {
+          const a = 36 / (36 + sd * sd);
+          return (x: number) => ({ mean: a * x + (sd * sd * 2) / (36 + sd * sd), sd: Math.sqrt(a * a * sd * sd + motor * motor) });
+        };
+        const p = mom(s1, m1);
+        const q = mom(s2, m2);
+        const exact = nodes.reduce((acc, n) => acc + n.weight * klGauss(p(n.x).mean, p(n.x).sd, q(n.x).mean, q(n.x).sd), 0);
+        expect(kl).toBeGreaterThanOrEqual(-1e-12);
+        expect(Math.abs(kl - exact)).toBeLessThan(1e-5 * Math.max(exact, 1e-3));
+      }),
+      { seed: 5150, numRuns: 12 },
+    );
   });
 
   it('labels pairs from the two directions and the parameter counts', () => {
