@@ -33,6 +33,15 @@ const trialListSchema = z
   ])
   .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution');
 
+const generateSchema = z
+  .strictObject({
+    models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
+    observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
+    parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
+    perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
+  })
+  .prefault({});
+
 /** A design variant: a name and the design fields it replaces in the base scenario. */
 export const variantSchema = z.strictObject({
   name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only'),
@@ -43,6 +52,7 @@ export const variantSchema = z.strictObject({
   response: responseSchema.optional(),
   trials: trialsSchema.optional(),
   split: z.record(z.string(), z.number().int().min(1).max(20)).optional().describe('trials per block for each condition (e.g. {brief: 2, long: 1})'),
+  generate: generateSchema.optional().describe('replaces the whole generate block (e.g. to draw the noise of new conditions)'),
 });
 export type DesignVariant = z.infer<typeof variantSchema>;
 
@@ -63,14 +73,7 @@ export const scenarioSchema = z
       .record(z.string(), z.number().int().min(1).max(20))
       .optional()
       .describe('uneven trial split: how many trials of each condition every block holds (e.g. {brief: 2, long: 1}); default one each'),
-    generate: z
-      .strictObject({
-        models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
-        observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
-        parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
-        perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
-      })
-      .prefault({}),
+    generate: generateSchema,
     fitting: z
       .strictObject({
         criterion: z.enum(['aic', 'aicc', 'bic', 'cv']).default('bic'),
