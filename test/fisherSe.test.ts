@@ -53,3 +53,25 @@ describe('predicted standard errors', () => {
     expect(fisher.nearSingular).toBe(false);
   });
 });
+
+describe('near-singular information', () => {
+  it('is flagged when two parameters move the responses in the same way', () => {
+    // With a Gaussian prior and constant noise, the asymmetric-linear level and the prior mean both only
+    // shift the estimate line x̂ = a·m + b (Gelman et al., BDA ch. 2; Berger 1985 §4.4.2): one direction is flat.
+    const model = defineCandidate({
+      name: 'shifted',
+      loss: { family: 'asymmetric-linear', level: 0.7 },
+      prior: { family: 'gaussian', mean: 10, sd: 8 },
+      conditions: [{ name: 'c', noise: { family: 'constant', sd: 4 } }],
+      scale: { lower: -40, upper: 60, ends: 'censor' },
+      motorSd: 1,
+      lapseRate: 0.02,
+      free: ['loss.level', 'prior.mean', 'noise.c.sd', 'motorSd'],
+      bounds: { 'prior.mean': { lower: 1, upper: 30 } },
+    });
+    const nodes = stimulusNodes(new Gaussian(10, 8), 1, 16);
+    const f = fisherInformation(generatingGrid(model, model.base, nodes), nodes);
+    expect(f.nearSingular).toBe(true);
+    expect(Math.abs(f.correlation![0][1]!)).toBeGreaterThan(0.999);
+  });
+});
