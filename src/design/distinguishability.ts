@@ -76,7 +76,7 @@ function startValues(candidate: CandidateModel, generating: CandidateModel, trut
   });
 }
 
-export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel, nodes: readonly StimulusNode[], maxEvaluations = 250): Divergence {
+export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel, nodes: readonly StimulusNode[], maxEvaluations = 150): Divergence {
   const g = gen.grid;
   const klAt = (z: readonly number[]): number => {
     try {
@@ -88,10 +88,18 @@ export function minimumDivergence(gen: GeneratingGrid, candidate: CandidateModel
   };
   const z0 = startValues(candidate, gen.model, gen.values);
   let best = { x: z0, value: klAt(z0), evaluations: 1, converged: true };
-  if (candidate.free.length > 0 && best.value > ZERO_DIVERGENCE / 10) {
-    const r = bfgs(klAt, z0, { maxEvaluations, initialStep: 1, gradientTolerance: 1e-7, gradientStep: 1e-4, fTolerance: 1e-9 });
-    if (r.value < best.value) best = { x: r.x, value: r.value, evaluations: r.evaluations + 1, converged: r.converged };
+  let evaluations = 1;
+  // A second start at the candidate's own scenario values guards against a local minimum,
+  // which would overstate the divergence (and call a pair separable that is not).
+  const zBase = candidate.free.map((p) => toFree(p, Math.min(p.upper, Math.max(p.lower, candidate.base[p.name]))));
+  const starts = zBase.some((z, i) => Math.abs(z - z0[i]) > 1e-6) ? [z0, zBase] : [z0];
+  for (const start of starts) {
+    if (candidate.free.length === 0 || best.value <= ZERO_DIVERGENCE / 10) break;
+    const r = bfgs(klAt, start, { maxEvaluations, initialStep: 1, gradientTolerance: 1e-7, gradientStep: 1e-4, fTolerance: 1e-9 });
+    evaluations += r.evaluations;
+    if (r.value < best.value) best = { x: r.x, value: r.value, evaluations, converged: r.converged };
   }
+  best.evaluations = evaluations;
   const theta = candidate.free.map((p, i) => toParameter(p, best.x[i]));
   const logQ = logDensityOn(observerFor(candidate, theta), g, nodes);
   const { mean, variance } = ratioMoments(g, logQ);
