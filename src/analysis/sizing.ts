@@ -35,7 +35,7 @@ export interface SizingRule {
   name: string;
   reference: string;
   alpha: number;
-  /** Per-point level used by the adaptive decisions and the crossing envelopes (α / points). */
+  /** Per-point level of the simultaneous intervals behind the crossing's interval (α / points); the adaptive decisions use alpha. */
   pointAlpha: number;
   rho: number;
   initialObservers: number;

@@ -1,7 +1,7 @@
 /**
  * The trial-count sweep with adaptive effort. Round 0 runs the initial
  * observers at every (generating model, trial count) point; after each round
- * a point whose simultaneous anytime-valid interval (analysis/
+ * a point whose 95% anytime-valid interval (analysis/
  * confidenceSequence.ts) still contains the target gets one more batch of
  * observers, up to the cap. Observers are indexed: a point with N observers
  * uses observers 0..N−1, each a fixed function of the seed and its index, and
@@ -76,7 +76,8 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
           if (v) s++;
         }
         if (k === 0) return false;
-        const cs = confidenceSequence(s, k, rho, pointAlpha);
+        // Each point's decision (above or below the target?) at its own 95% level; the crossing's interval uses the simultaneous level.
+        const cs = confidenceSequence(s, k, rho, o.alpha);
         return cs.lower < o.target && cs.upper >= o.target;
       });
       if (!uncertain) continue;
@@ -100,7 +101,7 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
       batch: o.batch,
       maxObservers: o.max,
       rounds: round + 1,
-      decision: `after each round, a point whose ${Math.round(100 * (1 - pointAlpha) * 1000) / 1000}% anytime-valid interval (α/points, Bonferroni) still contains the target ${o.target} gets ${o.batch} more observers, up to ${o.max}`,
+      decision: `after each round, a point whose ${Math.round(100 * (1 - o.alpha))}% anytime-valid interval still contains the target ${o.target} gets ${o.batch} more observers, up to ${o.max}`,
     };
   }
 }
