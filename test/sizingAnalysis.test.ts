@@ -12,6 +12,7 @@ import { parameterSuccess, sizing, type SizingOptions, type SizingRule } from '.
 import { monotonicityCheck } from '../src/analysis/monotonicity.js';
 import type { JobLine } from '../src/analysis/types.js';
 import { streamFromKey } from '../src/numerics/rng.js';
+import { undecided } from '../src/engine/adaptiveSweep.js';
 
 describe('confidence sequence', () => {
   it('its boundary is where the normal-mixture martingale reaches 1/α', () => {
@@ -155,5 +156,20 @@ describe('parameter targets', () => {
     expect(narrow(withInterval(1.5, 2.1))).toBe(false);
     // A line whose generating model lacks the parameter says nothing.
     expect(excl(line('b', 0, 100, 'b'))).toBeNull();
+  });
+});
+
+describe('adaptive rule', () => {
+  it('adds observers only where the interval still contains the target', () => {
+    const rho = tunedRho(40, 0.05);
+    const right = (l: JobLine) => l.comparison!.winner === l.generating;
+    const mk = (correct: number, n: number) => Array.from({ length: n }, (_, o) => line('a', o, 100, o < correct ? 'a' : 'b'));
+    // 0 of 30 right: the interval lies far below 0.8, so the point is settled.
+    expect(undecided(mk(0, 30), right, 0.8, rho, 0.05)).toBe(false);
+    // 24 of 30 right: 0.8 is inside the interval, so more observers are spent.
+    expect(undecided(mk(24, 30), right, 0.8, rho, 0.05)).toBe(true);
+    // Decided exactly by the confidence sequence's bounds.
+    const cs = confidenceSequence(10, 30, rho, 0.05);
+    expect(undecided(mk(10, 30), right, 0.8, rho, 0.05)).toBe(cs.lower < 0.8 && cs.upper >= 0.8);
   });
 });

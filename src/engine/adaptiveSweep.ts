@@ -66,20 +66,7 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
       const n = observers.get(`${g}|${t}`)!;
       if (n >= o.max) continue;
       const mine = lines.filter((l) => l.generating === g && l.trials === t);
-      const uncertain = judges.some((judge) => {
-        let k = 0;
-        let s = 0;
-        for (const l of mine) {
-          const v = judge(l);
-          if (v === null) continue;
-          k++;
-          if (v) s++;
-        }
-        if (k === 0) return false;
-        // Each point's decision (above or below the target?) at its own 95% level; the crossing's interval uses the simultaneous level.
-        const cs = confidenceSequence(s, k, rho, o.alpha);
-        return cs.lower < o.target && cs.upper >= o.target;
-      });
+      const uncertain = judges.some((judge) => undecided(mine, judge, o.target, rho, o.alpha));
       if (!uncertain) continue;
       const next = Math.min(o.max, n + o.batch);
       observers.set(`${g}|${t}`, next);
@@ -104,6 +91,25 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
       decision: `after each round, a point whose ${Math.round(100 * (1 - o.alpha))}% anytime-valid interval still contains the target ${o.target} gets ${o.batch} more observers, up to ${o.max}`,
     };
   }
+}
+
+/**
+ * Is it still open whether this point reaches the target? True when its
+ * anytime-valid interval (at level alpha) contains the target; a point with no
+ * judged datasets is not undecided (nothing more can be learnt from it).
+ */
+export function undecided(lines: readonly JobLine[], judge: (l: JobLine) => boolean | null, target: number, rho: number, alpha: number): boolean {
+  let k = 0;
+  let s = 0;
+  for (const l of lines) {
+    const v = judge(l);
+    if (v === null) continue;
+    k++;
+    if (v) s++;
+  }
+  if (k === 0) return false;
+  const cs = confidenceSequence(s, k, rho, alpha);
+  return cs.lower < target && cs.upper >= target;
 }
 
 const range = (a: number, b: number) => Array.from({ length: Math.max(0, b - a) }, (_, i) => a + i);
