@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import jStat from 'jstat';
-import { confidenceSequence, mixtureBoundary, tunedRho } from '../src/analysis/confidenceSequence.js';
+import { confidenceSequence, logMixtureRatio } from '../src/analysis/confidenceSequence.js';
 import { isotonic } from '../src/analysis/isotonic.js';
 import { parameterSuccess, sizing, type SizingOptions, type SizingRule } from '../src/analysis/sizing.js';
 import { monotonicityCheck } from '../src/analysis/monotonicity.js';
@@ -15,22 +15,31 @@ import { streamFromKey } from '../src/numerics/rng.js';
 import { undecided } from '../src/engine/adaptiveSweep.js';
 
 describe('confidence sequence', () => {
-  it('its boundary is where the normal-mixture martingale reaches 1/α', () => {
-    // Robbins (1970): M = ∫ exp(λs − λ²V/2) N(λ; 0, 1/ρ) dλ, integrated here by brute force on a fine grid.
-    const n = 150;
-    const rho = 7;
+  it('its ends are where the beta-mixture martingale reaches 1/α', () => {
+    // Robbins (1970): M = ∫ q^S (1−q)^(n−S) dq / (p^S (1−p)^(n−S)) for the uniform mixture,
+    // integrated here by brute force (midpoint rule in log space), independent of the Beta function.
+    const n = 40;
+    const S = 31;
     const alpha = 0.05;
-    const s = mixtureBoundary(n, rho, alpha);
-    const V = n / 4;
-    let M = 0;
-    const h = 1e-4;
-    for (let l = -3; l <= 3; l += h) M += Math.exp(l * s - (l * l * V) / 2) * Math.sqrt(rho / (2 * Math.PI)) * Math.exp((-rho * l * l) / 2) * h;
-    expect(M).toBeCloseTo(1 / alpha, 3);
+    const ci = confidenceSequence(S, n, alpha);
+    const M = (p: number) => {
+      let acc = 0;
+      const m = 200000;
+      for (let i = 0; i < m; i++) {
+        const q = (i + 0.5) / m;
+        acc += Math.exp(S * Math.log(q / p) + (n - S) * Math.log((1 - q) / (1 - p))) / m;
+      }
+      return acc;
+    };
+    expect(M(ci.lower)).toBeCloseTo(1 / alpha, 6);
+    expect(M(ci.upper)).toBeCloseTo(1 / alpha, 6);
+    expect(ci.lower).toBeLessThan(S / n);
+    expect(ci.upper).toBeGreaterThan(S / n);
+    expect(logMixtureRatio(S, n, S / n)).toBeLessThan(0);
   });
 
   it('covers the true proportion at every look in at least 95% of sequences', () => {
     const alpha = 0.05;
-    const rho = tunedRho(300, alpha);
     let misses = 0;
     const reps = 1000;
     for (let r = 0; r < reps; r++) {
@@ -38,8 +47,8 @@ describe('confidence sequence', () => {
       let succ = 0;
       for (let n = 1; n <= 300; n++) {
         if (rand() < 0.3) succ++;
-        const ci = confidenceSequence(succ, n, rho, alpha);
-        if (0.3 < ci.lower || 0.3 > ci.upper) {
+        // p lies outside the sequence's interval exactly when M_n(p) ≥ 1/α (the definition).
+        if (logMixtureRatio(succ, n, 0.3) >= Math.log(1 / alpha)) {
           misses++;
           break;
         }
@@ -47,8 +56,17 @@ describe('confidence sequence', () => {
     }
     // Ville's inequality bounds the chance of ever missing by α; 3 binomial sds of Monte Carlo slack.
     expect(misses / reps).toBeLessThan(alpha + 3 * Math.sqrt((alpha * (1 - alpha)) / reps));
+    // The bisected interval agrees with the definition.
+    for (const [k, n] of [[3, 10], [20, 40], [90, 300]]) {
+      const ci = confidenceSequence(k, n, alpha);
+      expect(logMixtureRatio(k, n, ci.lower)).toBeCloseTo(Math.log(1 / alpha), 6);
+      expect(logMixtureRatio(k, n, ci.upper)).toBeCloseTo(Math.log(1 / alpha), 6);
+    }
     // And it is not vacuous: it shrinks with n.
-    expect(confidenceSequence(240, 300, rho, alpha).upper - confidenceSequence(240, 300, rho, alpha).lower).toBeLessThan(0.25);
+    expect(confidenceSequence(240, 300, alpha).upper - confidenceSequence(240, 300, alpha).lower).toBeLessThan(0.2);
+    // All successes: the interval reaches 1 and its lower end solves M = 1/((n+1)·p^n) = 1/α.
+    expect(confidenceSequence(40, 40, alpha).upper).toBe(1);
+    expect(confidenceSequence(40, 40, alpha).lower).toBeCloseTo(Math.pow(alpha / 41, 1 / 40), 9);
   });
 });
 
@@ -91,7 +109,7 @@ function line(generating: string, observer: number, trials: number, winner: stri
   };
 }
 
-const rule: SizingRule = { name: 'test', reference: 'test', alpha: 0.05, pointAlpha: 0.05 / 6, rho: tunedRho(40, 0.05 / 6), initialObservers: 40, batch: 0, maxObservers: 40, rounds: 1, decision: 'none' };
+const rule: SizingRule = { name: 'test', reference: 'test', alpha: 0.05, pointAlpha: 0.05 / 6, mixture: 'uniform Beta(1, 1)', initialObservers: 40, batch: 0, maxObservers: 40, rounds: 1, decision: 'none' };
 const options = (counts: number[]): SizingOptions => ({ candidates: ['a', 'b'], generating: ['a', 'b'], trialCounts: counts, target: 0.8, rule, criterion: 'bic' });
 
 /** Observer o is correct at count index i when o < correctAt[i] (nested: once right, stays right). */
@@ -161,15 +179,14 @@ describe('parameter targets', () => {
 
 describe('adaptive rule', () => {
   it('adds observers only where the interval still contains the target', () => {
-    const rho = tunedRho(40, 0.05);
     const right = (l: JobLine) => l.comparison!.winner === l.generating;
     const mk = (correct: number, n: number) => Array.from({ length: n }, (_, o) => line('a', o, 100, o < correct ? 'a' : 'b'));
     // 0 of 30 right: the interval lies far below 0.8, so the point is settled.
-    expect(undecided(mk(0, 30), right, 0.8, rho, 0.05)).toBe(false);
+    expect(undecided(mk(0, 30), right, 0.8, 0.05)).toBe(false);
     // 24 of 30 right: 0.8 is inside the interval, so more observers are spent.
-    expect(undecided(mk(24, 30), right, 0.8, rho, 0.05)).toBe(true);
+    expect(undecided(mk(24, 30), right, 0.8, 0.05)).toBe(true);
     // Decided exactly by the confidence sequence's bounds.
-    const cs = confidenceSequence(10, 30, rho, 0.05);
-    expect(undecided(mk(10, 30), right, 0.8, rho, 0.05)).toBe(cs.lower < 0.8 && cs.upper >= 0.8);
+    const cs = confidenceSequence(10, 30, 0.05);
+    expect(undecided(mk(10, 30), right, 0.8, 0.05)).toBe(cs.lower < 0.8 && cs.upper >= 0.8);
   });
 });

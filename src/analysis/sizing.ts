@@ -37,7 +37,8 @@ export interface SizingRule {
   alpha: number;
   /** Per-point level of the simultaneous intervals behind the crossing's interval (α / points); the adaptive decisions use alpha. */
   pointAlpha: number;
-  rho: number;
+  /** Mixing distribution of the confidence sequence. */
+  mixture: string;
   initialObservers: number;
   batch: number;
   maxObservers: number;
@@ -157,8 +158,8 @@ function targetResult(lines: readonly JobLine[], o: SizingOptions, success: Succ
         if (ok) s++;
         if (l.status === 'failed' || l.comparison?.status === 'failed') failed++;
       }
-      const cs = confidenceSequence(s, n, o.rule.rho, o.rule.alpha);
-      const sim = confidenceSequence(s, n, o.rule.rho, o.rule.pointAlpha);
+      const cs = confidenceSequence(s, n, o.rule.alpha);
+      const sim = confidenceSequence(s, n, o.rule.pointAlpha);
       const w = n > 0 ? wilsonInterval(s, n) : null;
       return { generating: g, trials: t, observers: n, successes: s, failed, rate: n > 0 ? s / n : null, lower: cs.lower, upper: cs.upper, simultaneousLower: sim.lower, simultaneousUpper: sim.upper, wilsonLower: w?.lower ?? null, wilsonUpper: w?.upper ?? null, fitted: null as number | null };
     });

@@ -10,7 +10,7 @@
  * whatever the worker count, and a resumed sweep replays the same rounds.
  */
 import type { JobLine } from '../analysis/types.js';
-import { confidenceSequence, tunedRho } from '../analysis/confidenceSequence.js';
+import { confidenceSequence } from '../analysis/confidenceSequence.js';
 import { modelSuccess, parameterSuccess, type ParameterTarget } from '../analysis/sizingSuccess.js';
 import type { SizingRule } from '../analysis/sizing.js';
 import { jobKey, type JobSpec } from './plan.js';
@@ -43,7 +43,6 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
   const counts = study.trialCounts;
   const points = study.generating.flatMap((g) => counts.map((t) => ({ g, t })));
   const pointAlpha = o.alpha / Math.max(1, points.length);
-  const rho = tunedRho(o.max, pointAlpha);
   const observers = new Map(points.map((p) => [`${p.g}|${p.t}`, 0]));
   const criterion = study.scenario.fitting.criterion;
   const models = study.candidates.map((c) => c.name);
@@ -66,7 +65,7 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
       const n = observers.get(`${g}|${t}`)!;
       if (n >= o.max) continue;
       const mine = lines.filter((l) => l.generating === g && l.trials === t);
-      const uncertain = judges.some((judge) => undecided(mine, judge, o.target, rho, o.alpha));
+      const uncertain = judges.some((judge) => undecided(mine, judge, o.target, o.alpha));
       if (!uncertain) continue;
       const next = Math.min(o.max, n + o.batch);
       observers.set(`${g}|${t}`, next);
@@ -79,11 +78,11 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
 
   function rule(): SizingRule {
     return {
-      name: 'anytime-valid confidence sequence (Robbins normal mixture), more observers where the interval still contains the target',
+      name: 'anytime-valid confidence sequence (Robbins mixture, beta-binomial), more observers where the interval still contains the target',
       reference: 'Robbins (1970) Ann. Math. Stat. 41; Howard, Ramdas, McAuliffe & Sekhon (2021) Annals of Statistics 49',
       alpha: o.alpha,
       pointAlpha,
-      rho,
+      mixture: 'uniform Beta(1, 1)',
       initialObservers: o.initial,
       batch: o.batch,
       maxObservers: o.max,
@@ -98,7 +97,7 @@ export async function adaptiveSweep(study: ResolvedStudy, o: SweepOptions): Prom
  * anytime-valid interval (at level alpha) contains the target; a point with no
  * judged datasets is not undecided (nothing more can be learnt from it).
  */
-export function undecided(lines: readonly JobLine[], judge: (l: JobLine) => boolean | null, target: number, rho: number, alpha: number): boolean {
+export function undecided(lines: readonly JobLine[], judge: (l: JobLine) => boolean | null, target: number, alpha: number): boolean {
   let k = 0;
   let s = 0;
   for (const l of lines) {
@@ -108,7 +107,7 @@ export function undecided(lines: readonly JobLine[], judge: (l: JobLine) => bool
     if (v) s++;
   }
   if (k === 0) return false;
-  const cs = confidenceSequence(s, k, rho, alpha);
+  const cs = confidenceSequence(s, k, alpha);
   return cs.lower < target && cs.upper >= target;
 }
 
