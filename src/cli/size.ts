@@ -18,6 +18,7 @@ import { jsonSafe } from '../analysis/jsonSafe.js';
 import { analyticPreview } from '../design/analyticPreview.js';
 import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
+import { writeReport } from '../report/html/writeReport.js';
 
 export interface SizeFlags extends RunFlags {
   target?: string;
@@ -90,6 +91,15 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
     summary.variants = sized.map((d) => ({ name: d.variant, folder: d.folder, overall: d.overall }));
     writeAtomically(path, JSON.stringify(summary, null, 2) + '\n');
     writeAtomically(join(root, 'sizing-designs.csv'), sizingDesignsCsv(ranking));
+  }
+  // The sweep's results are written; a report that fails must not turn a finished sweep into an error.
+  for (const d of sized) {
+    try {
+      const report = await writeReport(d.folder);
+      for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
+    } catch (e) {
+      process.stderr.write(`lossprobe: the report of ${d.folder} could not be written (${(e as Error).message}); retry with: lossprobe report ${d.folder}\n`);
+    }
   }
   if (flags.json) process.stdout.write(readFileSync(join(root, 'summary.json'), 'utf8'));
   else printSizing(sized, ranking);
@@ -201,7 +211,7 @@ function printSizing(sized: SizedDesign[], ranking: DesignRank[]): void {
         ? `  Warning: accuracy fell between successive counts beyond chance (${s.monotonicity.falls.map((f) => `${f.generating} ${f.from}→${f.to}, p=${f.p.toPrecision(2)}`).join('; ')}); check the fits.`
         : `  Accuracy does not fall significantly between successive counts (${s.monotonicity.test}).`,
     );
-    console.log(`  Run folder: ${d.folder}/ (summary.json with 'sizing', sizing.csv, sizing-needed.csv)`);
+    console.log(`  Run folder: ${d.folder}/ (summary.json with 'sizing', sizing.csv, sizing-needed.csv, report.html)`);
   }
   if (ranking.length > 1) {
     console.log('\nDesigns side by side, ranked by the trials every generating model needs:');
