@@ -79,8 +79,12 @@ describe('lossprobe size', () => {
     expect(sizingOf(cut)).toEqual(ref);
   });
 
-  it('writes the sweep figure', () => {
+  it('writes the sweep figure and a report with a sizing section', () => {
     expect(readText(join(referenceSweep(), 'figures', 'sizing-accuracy.svg'))).toMatch(/^<svg/);
+    const html = readText(join(referenceSweep(), 'report.html'));
+    expect(html).toContain('<section id="sizing">');
+    expect(html).not.toContain('section-failed');
+    expect(readText(join(referenceSweep(), 'variants', 'narrow', 'report.html'))).toContain('<section id="sizing">');
   });
 
   it('preview ranks the variants side by side and writes preview.json', () => {
@@ -95,6 +99,7 @@ describe('lossprobe size', () => {
     const base = p.designs[0].analytic;
     expect(base.pairs[0].label).toBe('separable');
     expect(base.fisher[0].parameters).toEqual(['noise.standard.sd', 'motorSd']);
+    expect(readText(join(out, 'report.html'))).toContain('<section id="distinguishability">');
     expect(parseCsv(readText(join(out, 'distinguishability.csv')))[0]).toEqual(['design', 'generating', 'candidate', 'kl_per_trial', 'llr_variance_per_trial', 'pair_label']);
   });
 
