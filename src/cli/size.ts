@@ -202,8 +202,17 @@ function printSizing(sized: SizedDesign[], ranking: DesignRank[]): void {
           .join('; ')}.`,
       );
     if (s.parameter) {
-      console.log(`  Parameter target (${s.parameter.success}):`);
-      for (const n of [...s.parameter.needed]) console.log(`    ${n.statement}`);
+      const par = s.parameter;
+      console.log(`  Parameter target: share of observers for whom ${par.success}`);
+      const pg = [...new Set(par.points.map((p) => p.generating))];
+      const pt = new Table({ head: ['trials', ...pg], ...plain });
+      for (const n of s.trialCounts)
+        pt.push([String(n), ...pg.map((g) => {
+          const p = par.points.find((q) => q.generating === g && q.trials === n)!;
+          return `${pct(p.rate)} [${pct(p.lower)}–${pct(p.upper)}] n=${p.observers}`;
+        })]);
+      console.log(pt.toString());
+      for (const n of par.needed) console.log(`    ${n.statement}`);
     }
     console.log(`  Rule: ${s.rule.decision} (${s.rule.reference}); ${s.rule.rounds} round(s).`);
     console.log(

@@ -6,7 +6,7 @@
  */
 import { createHash } from 'node:crypto';
 import { readScenario } from '../scenario/variants.js';
-import { scenarioSchema, type Scenario } from '../scenario/schema.js';
+import type { Scenario } from '../scenario/schema.js';
 import { defineCandidate, observerFromValues, type CandidateModel } from '../fit/candidate.js';
 import { observerProblems } from '../observer/observer.js';
 import { createDistribution } from '../observer/distributions/registry.js';
