@@ -61,10 +61,10 @@ export function predictedCorrect(rivals: readonly Divergence[], k: Record<string
   return p;
 }
 
-/** Trial counts on which the curve is reported and searched: 10 to 20000, about 12 per decade. */
+/** Trial counts on which the curve is reported and searched: 10 to 20000, 48 per decade (steps of about 5%). */
 export const TRIAL_GRID: number[] = (() => {
   const out: number[] = [];
-  for (let e = 1; e <= 4.31; e += 1 / 12) {
+  for (let e = 1; e <= 4.31; e += 1 / 48) {
     const v = Math.round(10 ** e);
     if (out[out.length - 1] !== v) out.push(v);
   }
