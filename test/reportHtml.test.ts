@@ -177,10 +177,17 @@ describe('report of a recovery study', () => {
       { name: 'narrow-prior', overall: s.overall },
       { name: 'wide-prior', overall: s.overall },
     ];
+    // And a loss parameter summarised by bins of its true value (as a free exponent would be).
+    const p0 = s.overall.recovery[0].parameters[0];
+    p0.bins = [
+      { ...p0, lower: 6, upper: 7.5 },
+      { ...p0, lower: 8, upper: 9.9 },
+    ];
     writeFileSync(path, JSON.stringify(s, null, 2));
     expect(lossprobe(['report', copy]).status).toBe(0);
     const html = reportHtml(copy);
     expect(html).toContain('id="variants"');
+    expect(html).toContain('by its true value</caption>');
     expect(readdirSync(join(copy, 'figures'))).toEqual(expect.arrayContaining(['variant-narrow-prior-confusion.svg', 'variant-wide-prior-confusion.svg']));
     checkNumbers(copy);
   });

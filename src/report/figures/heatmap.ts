@@ -44,11 +44,12 @@ export interface HeatCell {
   ramp: Ramp;
 }
 
-export async function heatmap(opts: { title: string; subtitle?: string; rows: string[]; columns: string[]; rowTitle: string; columnTitle: string; cells: HeatCell[]; cell?: number }): Promise<string> {
+/** `compact`: small cells and upright column labels, for matrices shown side by side. */
+export async function heatmap(opts: { title: string; subtitle?: string; rows: string[]; columns: string[]; rowTitle: string; columnTitle: string; cells: HeatCell[]; cell?: number; compact?: boolean }): Promise<string> {
   const longest = Math.max(...opts.columns.map((c) => c.length));
   // Wide enough for horizontal column labels up to about 13 characters; longer names are set vertically (slanted ones would run past the right edge).
-  const slant = longest > 13;
-  const size = opts.cell ?? (slant ? 60 : Math.max(58, Math.min(92, longest * 6.6 + 14)));
+  const slant = longest > 13 || opts.compact === true;
+  const size = opts.cell ?? (opts.compact ? 46 : slant ? 60 : Math.max(58, Math.min(92, longest * 6.6 + 14)));
   const values = opts.cells.map((c) => {
     const fill = cellFill(c.value, c.ramp);
     return { row: c.row, column: c.column, label: c.label, fill, ink: textOn(fill) };
@@ -64,7 +65,7 @@ export async function heatmap(opts: { title: string; subtitle?: string; rows: st
     },
     layer: [
       { mark: { type: 'rect', stroke: '#ffffff', strokeWidth: 2 }, encoding: { fill: { field: 'fill', type: 'nominal', scale: null } } },
-      { mark: { type: 'text', fontSize: 12, fontWeight: 'bold' }, encoding: { text: { field: 'label' }, color: { field: 'ink', type: 'nominal', scale: null } } },
+      { mark: { type: 'text', fontSize: opts.compact ? 11 : 12, fontWeight: 'bold' }, encoding: { text: { field: 'label' }, color: { field: 'ink', type: 'nominal', scale: null } } },
     ],
     config: { view: { stroke: null }, axis: { grid: false } },
   });

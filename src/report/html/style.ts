@@ -1,4 +1,4 @@
-/** The page's own look: calm paper tones, one accent, generous spacing; prints cleanly on A4. */
+/** The page's own look: calm paper tones, one accent, generous spacing; a plain print style (no cards, no contents line). */
 export const CSS = `
 :root { --ink: #1d2126; --muted: #5b6168; --rule: #dcdad3; --paper: #fbfaf7; --card: #ffffff; --accent: #0c4c80; --warn-bg: #fff6e6; --warn: #a45a00; }
 * { box-sizing: border-box; }

@@ -8,7 +8,7 @@ import type { Scenario } from '../../../scenario/schema.js';
 import { ReportContext } from '../context.js';
 import { buildPage, type BuiltReport } from '../page.js';
 import type { Section } from '../section.js';
-import { design } from '../sections/methods.js';
+import { design } from '../scenarioWords.js';
 import { previewFigures } from '../sections/observerPreview.js';
 import { listNames } from '../sentences.js';
 import { analyticSection } from './analyticSection.js';

@@ -21,7 +21,7 @@ export const designVariants: Section = {
     const figs: string[] = [];
     for (const [k, v] of variants.entries()) {
       const focus = { summary: v.overall, path: ['summary', 'variants', k, 'overall'], phrase: `for design ${ctx.name(v.name)}` };
-      figs.push(await confusionFigure(ctx, focus, `variant-${slug(v.name)}-confusion.svg`, `Design ${v.name}`));
+      figs.push(await confusionFigure(ctx, focus, `variant-${slug(v.name)}-confusion.svg`, `Design ${v.name}`, true));
     }
     return `<p class="how">The same candidate models under each design. Prefer the design whose matrix is most concentrated on its diagonal at the trial count you can afford.</p>
 <div class="table-wrap"><table class="data"><thead><tr><th>design</th><th>generating model chosen</th><th>balanced accuracy</th><th>datasets</th></tr></thead><tbody>

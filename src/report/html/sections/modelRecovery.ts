@@ -14,7 +14,7 @@ export const UNDECIDED = 'undecided';
 export const FAILED = 'failed fit';
 
 /** Confusion heatmap of one summary; shared with the design-variants section. */
-export async function confusionFigure(ctx: ReportContext, f: Focus, file: string, title: string): Promise<string> {
+export async function confusionFigure(ctx: ReportContext, f: Focus, file: string, title: string, compact = false): Promise<string> {
   const c = f.summary.confusion;
   const rowLabel = (i: number) => `${c.rows[i]} (n = ${formatNumber(c.n[i], 'count')})`;
   const rows = c.rows.map((_, i) => rowLabel(i));
@@ -24,7 +24,8 @@ export async function confusionFigure(ctx: ReportContext, f: Focus, file: string
     cells.push({ row: rows[i], column: UNDECIDED, value: c.undecidedRate[i], label: formatNumber(c.undecidedRate[i], 'percent'), ramp: 'grey' });
     cells.push({ row: rows[i], column: FAILED, value: c.failedRate[i], label: formatNumber(c.failedRate[i], 'percent'), ramp: 'vermillion' });
   });
-  const svg = await heatmap({ title, rows, columns: [...c.columns, UNDECIDED, FAILED], rowTitle: 'generating model', columnTitle: 'model chosen', cells });
+  const svg = await heatmap({ title, rows, columns: [...c.columns, UNDECIDED, FAILED], rowTitle: 'generating model', columnTitle: 'model chosen', cells, compact });
+  if (compact) return ctx.figure(file, svg, `Confusion matrix ${f.phrase}; rows add up to the whole.`, 'Confusion matrix heatmap');
   return ctx.figure(
     file,
     svg,
