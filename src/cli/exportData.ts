@@ -10,7 +10,7 @@ import { join } from 'node:path';
 import { planJobs } from '../engine/plan.js';
 import { prefix, syntheticDataset } from '../engine/syntheticObserver.js';
 import { blindIds, TRUTH_VERSION, type TruthFile, type TruthParticipant } from '../engine/truthFile.js';
-import { csv } from '../report/studyOutputs.js';
+import { csvTable as csv } from '../report/csv.js';
 import { studyFromFlags, writeAtomically, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 

@@ -26,7 +26,7 @@ export interface RunFlags {
   quiet?: boolean;
 }
 
-function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
+export function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
   if (!Number.isInteger(n) || n < 1 || n > max) throw new UserError(`--${flag} expects a whole number from 1 to ${max} (got '${v}')`);
@@ -70,6 +70,14 @@ export function openRunFolder(folder: string, study: Pick<ResolvedStudy, 'hash' 
   } catch (e) {
     throw new UserError(`cannot create the run folder ${folder}: ${(e as Error).message}`);
   }
+}
+
+/** For --overwrite: delete the folder, but only if it is recognisably a run folder. */
+export function removeRunFolder(folder: string): void {
+  if (!existsSync(folder)) return;
+  const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
+  if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
+  rmSync(folder, { recursive: true, force: true });
 }
 
 /** The {hash, scenario} record of a run folder, or null when absent or unreadable. */
@@ -124,11 +132,7 @@ export const workerCount = (v: string | undefined) => positiveInt('workers', v, 
 /** --overwrite (only ever of a recognisable run folder) or --resume, then open the folder. Call after every flag is checked. */
 export function prepareRunFolder(folder: string, study: Pick<ResolvedStudy, 'hash' | 'scenario'>, flags: { overwrite?: boolean; resume?: boolean }): void {
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
-  if (flags.overwrite && existsSync(folder)) {
-    const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
-    if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
-    rmSync(folder, { recursive: true, force: true });
-  }
+  if (flags.overwrite) removeRunFolder(folder);
   openRunFolder(folder, study, flags.resume ?? false);
 }
 

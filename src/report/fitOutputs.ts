@@ -7,7 +7,7 @@
 import type { BootstrapSummary, GroupSummary, ParticipantSummary } from '../analysis/groupFit.js';
 import type { WinnerAgainstRecovery } from '../analysis/recoveryLookup.js';
 import { CHECK_PROBABILITIES } from '../analysis/predictiveCheck.js';
-import { csv } from './studyOutputs.js';
+import { csvTable as csv } from './csv.js';
 
 const parameterNames = (ps: readonly ParticipantSummary[]) => [...new Set(ps.flatMap((p) => p.models.flatMap((m) => m.parameters.map((q) => q.name))))].sort();
 
