@@ -4,11 +4,15 @@
  * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
  */
 import Table from 'cli-table3';
-import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
 import { runStudy } from '../engine/runStudy.js';
+import { planJobs, type JobSpec } from '../engine/plan.js';
+import { parseShard, shardFolderName } from '../engine/shard.js';
+import { openShard, recordShard, type ShardRecord } from '../engine/shardFolder.js';
+import { writeFileAtomically as writeAtomically } from '../engine/atomicFile.js';
 import { confusionCsv, fitsCsv, inversionCsv, parametersCsv, studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { UserError } from './userError.js';
 
@@ -22,6 +26,7 @@ export interface RunFlags {
   overwrite?: boolean;
   json?: boolean;
   quiet?: boolean;
+  shard?: string;
 }
 
 function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
@@ -80,13 +85,6 @@ function runFolderScenario(folder: string): { hash?: string } | null {
   }
 }
 
-/** Write to a temporary name and rename, so a file is never seen half-written. */
-function writeAtomically(path: string, text: string): void {
-  const tmp = `${path}.partial-${process.pid}`;
-  writeFileSync(tmp, text);
-  renameSync(tmp, path);
-}
-
 export function writeStudyOutputs(folder: string, summary: StudySummary, lines: Parameters<typeof fitsCsv>[0]): void {
   writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
   writeAtomically(join(folder, 'fits.csv'), fitsCsv(lines));
@@ -116,12 +114,21 @@ export function printStudy(summary: StudySummary, folder: string): void {
   console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
 }
 
+/** With --shard K/N: the shard's folder inside the run folder, its slice of the plan and its shard.json record. */
+function shardOfRun(study: ResolvedStudy, base: string, text: string | undefined): { folder: string; jobs?: JobSpec[]; record?: ShardRecord } {
+  if (text === undefined) return { folder: base };
+  const shard = parseShard(text);
+  if (typeof shard === 'string') throw new UserError(shard);
+  return openShard({ base, shard, command: 'run', name: study.scenario.name, scenarioHash: study.hash, seed: study.scenario.seed, plan: planJobs(study) });
+}
+
 export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
   const study = studyFromFlags(file, flags);
-  const folder = flags.out ?? join('results', study.scenario.name);
+  const base = flags.out ?? join('results', study.scenario.name);
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
   const workers = positiveInt('workers', flags.workers, 256);
+  const { folder, jobs, record } = shardOfRun(study, base, flags.shard);
   if (flags.overwrite && existsSync(folder)) {
     // Only ever delete what is recognisably a run folder.
     const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
@@ -129,18 +136,35 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
     rmSync(folder, { recursive: true, force: true });
   }
   openRunFolder(folder, study, flags.resume ?? false);
+  if (record) recordShard(folder, record);
   const started = Date.now();
-  const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });
+  const outcome = await runStudy(study, { folder, workers, jobs, quiet: flags.quiet || flags.json });
   if (outcome.interrupted) {
     process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished jobs are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);
     process.exit(130);
   }
-  const summary = studySummary(study, outcome.lines, toolVersion);
-  writeStudyOutputs(folder, summary, outcome.lines);
   writeFileSync(
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
   );
+  if (record) return printShard(record, folder, base, outcome.failed, flags.json ?? false);
+  const summary = studySummary(study, outcome.lines, toolVersion);
+  writeStudyOutputs(folder, summary, outcome.lines);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printStudy(summary, folder);
+}
+
+/**
+ * A shard writes no summary: a slice of the plan summarised on its own would
+ * pass for a (smaller, skewed) study. It says what to do next instead.
+ */
+function printShard(record: ShardRecord, folder: string, base: string, failed: number, json: boolean): void {
+  const { index, count } = record.shard;
+  const glob = join(base, shardFolderName({ index: count, count }).replace(/^shard-\d+-/, 'shard-*-'));
+  if (json) {
+    process.stdout.write(JSON.stringify({ shard: record.shard, folder, jobs: record.jobs, failed, plannedJobs: record.plan.jobs }, null, 2) + '\n');
+    return;
+  }
+  console.log(`Shard ${index} of ${count} of '${record.name}': ${record.jobs} of the plan's ${record.plan.jobs} jobs are in ${folder}/jobs.jsonl${failed ? ` (${failed} failed)` : ''}.`);
+  console.log(`When every shard has finished, join them with:\n  lossprobe merge ${glob} --out ${base}`);
 }
