@@ -9,9 +9,9 @@
  */
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { readdirSync } from 'node:fs';
+import { readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { TINY, TINY_JOBS, lossprobe, readJson, readText, referenceRun, removeTemp, sortedJobs, tempDir } from './helpers/studyFixture.js';
+import { TINY, TINY_JOBS, jobLines, lossprobe, readJson, readText, referenceRun, removeTemp, sortedJobs, tempDir } from './helpers/studyFixture.js';
 import { slurmUnavailable, startSlurm, type SlurmCluster } from './helpers/slurmCluster.js';
 
 const unavailable = slurmUnavailable();
@@ -19,6 +19,8 @@ if (unavailable) console.warn(`slurmSystem.test.ts skipped: ${unavailable}`);
 
 describe.skipIf(unavailable !== null)(`the generated Slurm scripts on a real single-node scheduler${unavailable ? ` (skipped: ${unavailable})` : ''}`, () => {
   let cluster: SlurmCluster | null = null;
+  /** The run folder of the first test, once its array and merge succeeded. */
+  let done: string | null = null;
   beforeAll(async () => {
     referenceRun();
     cluster = await startSlurm(join(tempDir(), 'slurm'));
@@ -53,5 +55,24 @@ describe.skipIf(unavailable !== null)(`the generated Slurm scripts on a real sin
     for (const s of shards) expect(readJson<{ workers: number }>(join(out, s, 'run-info.json')).workers).toBe(1);
     expect(readJson<{ jobs: number; shards: number }>(join(out, 'merge.json'))).toMatchObject({ jobs: TINY_JOBS, shards: 4 });
     expect(readText(join(out, 'logs', 'merge.log'))).toContain('Merged 4 shards (9 jobs)');
+    done = out;
   }, 240_000);
+
+  it('a failed array task resubmitted with sbatch --array=K resumes, and merging again gives the same summary', () => {
+    expect(done, 'needs the run of the previous test').not.toBeNull();
+    const c = cluster!;
+    const out = done!;
+    const shard = join(out, 'shard-002-of-004');
+    const lines = jobLines(shard);
+    expect(lines.length).toBeGreaterThan(1);
+    // As if task 2 had been killed after its first job.
+    writeFileSync(join(shard, 'jobs.jsonl'), lines[0] + '\n');
+    const slurm = join(out, 'slurm');
+    const task = spawnSync('timeout', ['90', 'sbatch', '--wait', '--array=2', join(slurm, 'array.sbatch')], { env: c.env, encoding: 'utf8' });
+    expect(task.status, `${task.stdout}\n${task.stderr}\n${readText(join(out, 'logs', 'shard-2.log'))}`).toBe(0);
+    expect(readJson(join(shard, 'run-info.json'))).toMatchObject({ jobsResumed: 1, jobsRun: lines.length - 1 });
+    const merge = spawnSync('timeout', ['60', 'sbatch', '--wait', join(slurm, 'merge.sbatch')], { env: c.env, encoding: 'utf8' });
+    expect(merge.status, `${merge.stdout}\n${merge.stderr}\n${readText(join(out, 'logs', 'merge.log'))}`).toBe(0);
+    expect(readText(join(out, 'summary.json'))).toBe(readText(join(referenceRun().folder, 'summary.json')));
+  }, 180_000);
 });
