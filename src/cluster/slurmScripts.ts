@@ -81,7 +81,7 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
   ];
   const array = [
     ...header,
-    `# Array task K runs shard K of ${p.shards} into ${p.out}/shard-K-of-${p.shards} (zero-padded).`,
+    `# Array task K runs shard K of ${p.shards} into ${p.out}/${lastShard.replace(/^shard-\d+-/, 'shard-K-')} (K zero-padded).`,
     '# A task that failed or hit its time limit continues where it stopped when resubmitted:',
     '#   sbatch --array=K array.sbatch',
     ...directives(p, [`#SBATCH --job-name=${jobName(p.name)}`, `#SBATCH --array=1-${p.shards}`, `#SBATCH --cpus-per-task=${p.cpus}`, `#SBATCH --output=${p.out}/logs/shard-%a.log`]),
