@@ -151,6 +151,7 @@ describe('merge checks on shard folders', () => {
 describe('the Slurm scripts', () => {
   const plan: SlurmPlan = {
     toolVersion: '9.9.9',
+    command: 'run',
     name: 'my study',
     scenarioHash: 'f'.repeat(64),
     seed: 3,

@@ -10,7 +10,7 @@ import { join, resolve } from 'node:path';
 import { slurmScripts } from '../cluster/slurmScripts.js';
 import { writeFileAtomically } from '../engine/atomicFile.js';
 import { planJobs } from '../engine/plan.js';
-import { shardFolderName } from '../engine/shard.js';
+import { shardGlob } from '../engine/shard.js';
 import { studyFromFlags, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
@@ -55,6 +55,7 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
   ];
   const scripts = slurmScripts({
     toolVersion,
+    command: 'run',
     name: study.scenario.name,
     scenarioHash: study.hash,
     seed: study.scenario.seed,
@@ -82,7 +83,7 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
   }
   const perShard = Math.ceil(jobs / shards);
   console.log(`Slurm scripts for '${study.scenario.name}' (${jobs} jobs in ${shards} shards of up to ${perShard}; ${cpus} cores and ${flags.time} per task) in ${dir}/:`);
-  console.log(`  array.sbatch  array task K runs shard K into ${join(out, shardFolderName({ index: 1, count: shards }).replace(/^shard-\d+/, 'shard-K'))}`);
+  console.log(`  array.sbatch  array task K runs shard K into ${join(out, shardGlob(shards).replace('*', 'K'))}`);
   console.log(`  merge.sbatch  joins the shards into ${out}/ (summary.json, CSV files)`);
   console.log('  submit.sh     queues the array, then the merge to start once every task has ended');
   console.log(`Submit from a login node of the cluster (same files and paths):\n  bash ${join(dir, 'submit.sh')}`);

@@ -10,8 +10,8 @@ import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
 import { runStudy } from '../engine/runStudy.js';
 import { planJobs, type JobSpec } from '../engine/plan.js';
-import { parseShard, shardFolderName } from '../engine/shard.js';
-import { openShard, recordShard, type ShardRecord } from '../engine/shardFolder.js';
+import { parseShard } from '../engine/shard.js';
+import { mergeHint, openShard, recordShard, type ShardRecord } from '../engine/shardFolder.js';
 import { writeFileAtomically as writeAtomically } from '../engine/atomicFile.js';
 import { confusionCsv, fitsCsv, inversionCsv, parametersCsv, studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { UserError } from './userError.js';
@@ -160,11 +160,10 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
  */
 function printShard(record: ShardRecord, folder: string, base: string, failed: number, json: boolean): void {
   const { index, count } = record.shard;
-  const glob = join(base, shardFolderName({ index: count, count }).replace(/^shard-\d+-/, 'shard-*-'));
   if (json) {
     process.stdout.write(JSON.stringify({ shard: record.shard, folder, jobs: record.jobs, failed, plannedJobs: record.plan.jobs }, null, 2) + '\n');
     return;
   }
   console.log(`Shard ${index} of ${count} of '${record.name}': ${record.jobs} of the plan's ${record.plan.jobs} jobs are in ${folder}/jobs.jsonl${failed ? ` (${failed} failed)` : ''}.`);
-  console.log(`When every shard has finished, join them with:\n  lossprobe merge ${glob} --out ${base}`);
+  console.log(`When every shard has finished, join them with:\n  ${mergeHint(base, count)}`);
 }

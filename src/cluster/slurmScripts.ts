@@ -11,10 +11,12 @@
  * Pure text generation; every path given here is absolute, so the scripts work
  * whatever folder they are submitted from.
  */
-import { shardFolderName } from '../engine/shard.js';
+import { shardGlob } from '../engine/shard.js';
 
 export interface SlurmPlan {
   toolVersion: string;
+  /** The lossprobe command whose job plan the array splits (run; plan, size and fit where they take --shard). */
+  command: string;
   name: string;
   scenarioHash: string;
   seed: number;
@@ -72,8 +74,7 @@ function lossprobeLocation(p: SlurmPlan): string[] {
 
 export function slurmScripts(p: SlurmPlan): SlurmScripts {
   const out = shellQuote(p.out);
-  const lastShard = shardFolderName({ index: p.shards, count: p.shards });
-  const shardGlob = lastShard.replace(/^shard-\d+-/, 'shard-*-');
+  const glob = shardGlob(p.shards);
   const header = [
     '#!/bin/bash',
     `# Written by lossprobe ${p.toolVersion} (\`lossprobe cluster\`) for the study '${p.name}'`,
@@ -81,7 +82,7 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
   ];
   const array = [
     ...header,
-    `# Array task K runs shard K of ${p.shards} into ${p.out}/${lastShard.replace(/^shard-\d+-/, 'shard-K-')} (K zero-padded).`,
+    `# Array task K runs shard K of ${p.shards} into ${p.out}/${glob.replace('*', 'K')} (K zero-padded).`,
     '# A task that failed or hit its time limit continues where it stopped when resubmitted:',
     '#   sbatch --array=K array.sbatch',
     ...directives(p, [`#SBATCH --job-name=${jobName(p.name)}`, `#SBATCH --array=1-${p.shards}`, `#SBATCH --cpus-per-task=${p.cpus}`, `#SBATCH --output=${p.out}/logs/shard-%a.log`]),
@@ -91,7 +92,7 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
     'shard="${SLURM_ARRAY_TASK_ID:?submit this script with sbatch; it runs as an array task}"',
     '# Every core Slurm gave this task is a worker.',
     'workers="${SLURM_CPUS_PER_TASK:-1}"',
-    `exec "$node" "$cli" run ${[p.scenario, ...p.studyFlags].map(shellQuote).join(' ')} --shard "$shard/${p.shards}" --out ${out} --workers "$workers" --resume`,
+    `exec "$node" "$cli" ${p.command} ${[p.scenario, ...p.studyFlags].map(shellQuote).join(' ')} --shard "$shard/${p.shards}" --out ${out} --workers "$workers" --resume`,
     '',
   ];
   const merge = [
@@ -102,7 +103,7 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
     '',
     'set -euo pipefail',
     ...lossprobeLocation(p),
-    `exec "$node" "$cli" merge ${out}/${shardGlob} --out ${out}`,
+    `exec "$node" "$cli" merge ${out}/${glob} --out ${out}`,
     '',
   ];
   const submit = [

@@ -49,3 +49,8 @@ export function shardFolderName(shard: Shard): string {
   const width = Math.max(3, String(shard.count).length);
   return `shard-${String(shard.index).padStart(width, '0')}-of-${String(shard.count).padStart(width, '0')}`;
 }
+
+/** A shell glob matching the folders of every shard of a split into `count` shards, e.g. shard-*-of-008. */
+export function shardGlob(count: number): string {
+  return shardFolderName({ index: count, count }).replace(/^shard-\d+-/, 'shard-*-');
+}

@@ -15,7 +15,7 @@ import { z } from 'zod';
 import { compareJobKeys } from '../analysis/jobKeys.js';
 import { UserError, formatSchemaIssues } from '../cli/userError.js';
 import { writeFileAtomically } from './atomicFile.js';
-import { shardFolderName, shardJobs, type Shard } from './shard.js';
+import { shardFolderName, shardGlob, shardJobs, type Shard } from './shard.js';
 
 export const SHARD_FILE = 'shard.json';
 
@@ -108,4 +108,9 @@ export function recordShard(folder: string, record: ShardRecord): void {
     throw new UserError(
       `${folder} holds shard ${prior.shard.index} of ${prior.shard.count} of another split or study (its ${SHARD_FILE} differs: command '${prior.command}', ${prior.plan.jobs} planned jobs, seed ${prior.seed}); resume it with the same scenario file and flags, or use another --out`,
     );
+}
+
+/** What to type once every shard of a split into `count` shards inside `base` has finished. */
+export function mergeHint(base: string, count: number): string {
+  return `lossprobe merge ${join(base, shardGlob(count))} --out ${base}`;
 }
