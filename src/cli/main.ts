@@ -7,6 +7,7 @@ import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
 import { mergeCommand } from './merge.js';
 import { clusterCommand } from './cluster.js';
+import { reportCommand } from './report.js';
 
 const require = createRequire(import.meta.url);
 const { version } = require('../../package.json') as { version: string };
@@ -68,6 +69,11 @@ async function main(argv: string[]): Promise<void> {
     .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
     .option('--seed <s>', 'master seed (overrides the scenario)')
     .action((file: string, opts) => clusterCommand(file, opts, version));
+  program
+    .command('report')
+    .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')
+    .argument('<folder>', 'run folder (holds summary.json and scenario.json)')
+    .action(async (folder: string) => reportCommand(folder));
   await program.parseAsync(argv);
 }
 

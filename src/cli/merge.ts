@@ -1,8 +1,8 @@
 /**
  * `lossprobe merge SHARD_FOLDERS... --out RUN_FOLDER`: joins the shard folders
  * of a study run as a cluster array job into one run folder with the same
- * scenario.json, jobs.jsonl (sorted by key), summary.json and CSV files as a
- * single-machine run of the same scenario and seed. Checks and refusals live
+ * scenario.json, jobs.jsonl (sorted by key), summary.json, CSV files and
+ * report.html as a single-machine run of the same scenario and seed. Checks and refusals live
  * in engine/mergeShards.ts; what the merged folder holds is up to the command
  * whose plan was split (the table `mergers` below), so `size`, `fit` and
  * `plan` add one entry each.
@@ -18,7 +18,7 @@ import { planDigest } from '../engine/shardFolder.js';
 import { studySummary } from '../report/studyOutputs.js';
 import { validate } from '../scenario/load.js';
 import { scenarioSchema } from '../scenario/schema.js';
-import { openRunFolder, printStudy, writeStudyOutputs } from './run.js';
+import { openRunFolder, printStudy, writeReportOrWarn, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
 
 export interface MergeFlags {
@@ -43,17 +43,18 @@ interface Merger {
   /** The full job plan of the study, as the command builds it. */
   planKeys(study: ResolvedStudy): string[];
   /** Write the command's outputs into the merged folder and print them. */
-  finish(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean }): NextRound;
+  finish(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean }): Promise<NextRound>;
 }
 
 const mergers: Record<string, Merger> = {
   run: {
     planKeys: (study) => planJobs(study).map((j) => j.key),
-    finish({ folder, study, lines, toolVersion, json }) {
+    async finish({ folder, study, lines, toolVersion, json }) {
       const summary = studySummary(study, lines, toolVersion);
       writeStudyOutputs(folder, summary, lines);
+      const report = await writeReportOrWarn(folder);
       if (json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-      else printStudy(summary, folder);
+      else printStudy(summary, folder, report);
       return { needed: false, reason: 'a recovery study runs its whole plan in one round' };
     },
   },
@@ -98,7 +99,7 @@ export async function mergeCommand(args: string[], flags: MergeFlags, toolVersio
   // Everything is checked; from here on the merged folder is written, each file atomically.
   openRunFolder(flags.out, study, true);
   writeFileAtomically(join(flags.out, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
-  const next = merger.finish({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false });
+  const next = await merger.finish({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false });
   const failed = lines.filter((l) => l.status !== 'ok').length;
   writeFileAtomically(
     join(flags.out, 'merge.json'),
