@@ -110,11 +110,12 @@ describe('run --shard', () => {
 });
 
 describe('merge', () => {
-  it('gives the same jobs, summary.json and CSV files as the single-machine run', () => {
+  it('gives the same jobs, summary.json, CSV files and report.html as the single-machine run', () => {
     const r = asSlurm(join(base, 'slurm', 'merge.sbatch'));
     expect(r.status, r.stderr).toBe(0);
     expect(r.stdout).toContain('Merged 3 shards (9 jobs)');
-    for (const f of ['summary.json', 'fits.csv', 'parameters.csv', 'confusion.csv', 'inversion.csv']) expect(readText(join(base, f)), f).toBe(readText(join(ref, f)));
+    for (const f of ['summary.json', 'fits.csv', 'parameters.csv', 'confusion.csv', 'inversion.csv', 'report.html']) expect(readText(join(base, f)), f).toBe(readText(join(ref, f)));
+    expect(readdirSync(join(base, 'figures')).sort()).toEqual(readdirSync(join(ref, 'figures')).sort());
     expect(sortedJobs(base)).toBe(sortedJobs(ref));
     const keys = jobLines(base).map((l) => JSON.parse(l).key as string);
     expect(keys).toEqual([...keys].sort(compareJobKeys));

@@ -49,6 +49,7 @@ describe.skipIf(unavailable !== null)(`the generated Slurm scripts on a real sin
     const ref = referenceRun().folder;
     expect(readText(join(out, 'summary.json'))).toBe(readText(join(ref, 'summary.json')));
     expect(sortedJobs(out)).toBe(sortedJobs(ref));
+    expect(readText(join(out, 'report.html'))).toBe(readText(join(ref, 'report.html')));
     const shards = readdirSync(out).filter((d) => d.startsWith('shard-')).sort();
     expect(shards).toEqual(['shard-001-of-004', 'shard-002-of-004', 'shard-003-of-004', 'shard-004-of-004']);
     // Each task used the one core it was given as its one worker.
