@@ -31,7 +31,7 @@ export interface RunFlags {
   shard?: string;
 }
 
-function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
+export function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
   if (!Number.isInteger(n) || n < 1 || n > max) throw new UserError(`--${flag} expects a whole number from 1 to ${max} (got '${v}')`);
@@ -77,6 +77,14 @@ export function openRunFolder(folder: string, study: ResolvedStudy, resume: bool
   }
 }
 
+/** For --overwrite: delete the folder, but only if it is recognisably a run folder. */
+export function removeRunFolder(folder: string): void {
+  if (!existsSync(folder)) return;
+  const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
+  if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
+  rmSync(folder, { recursive: true, force: true });
+}
+
 /** The {hash, scenario} record of a run folder, or null when absent or unreadable. */
 function runFolderScenario(folder: string): { hash?: string } | null {
   try {
@@ -86,6 +94,9 @@ function runFolderScenario(folder: string): { hash?: string } | null {
     return null;
   }
 }
+
+/** Kept under this name for the commands that import it from here. */
+export { writeAtomically };
 
 export function writeStudyOutputs(folder: string, summary: StudySummary, lines: Parameters<typeof fitsCsv>[0]): void {
   writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
@@ -144,12 +155,7 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
   // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
   const workers = positiveInt('workers', flags.workers, 256);
   const { folder, jobs, record } = shardOfRun(study, base, flags.shard);
-  if (flags.overwrite && existsSync(folder)) {
-    // Only ever delete what is recognisably a run folder.
-    const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
-    if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
-    rmSync(folder, { recursive: true, force: true });
-  }
+  if (flags.overwrite) removeRunFolder(folder);
   openRunFolder(folder, study, flags.resume ?? false);
   if (record) recordShard(folder, record);
   const started = Date.now();

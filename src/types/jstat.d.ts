@@ -5,6 +5,7 @@ declare module 'jstat' {
     lowRegGamma(a: number, x: number): number;
     gammapinv(p: number, a: number): number;
     normal: { inv(p: number, mean: number, sd: number): number };
+    binomial: { cdf(k: number, n: number, p: number): number };
   }
   const jStat: JStatStatic;
   export default jStat;
