@@ -21,7 +21,7 @@ import { resolveStudy } from '../engine/resolve.js';
 import { parseTruthFile } from '../engine/truthFile.js';
 import { toFree } from '../fit/transforms.js';
 import { studySummary } from '../report/studyOutputs.js';
-import { prepareRunFolder, printStudy, writeAtomically, writeReportAfterRun, writeStudyOutputs } from './run.js';
+import { prepareRunFolder, printStudy, writeAtomically, writeReportOrWarn, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
 
 export interface GradeFlags {
@@ -116,7 +116,7 @@ export async function gradeCommand(truthPath: string, flags: GradeFlags, toolVer
   writeAtomically(join(folder, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
   const summary = studySummary(study, lines, toolVersion);
   writeStudyOutputs(folder, summary, lines);
-  const reportPath = await writeReportAfterRun(folder);
+  const reportPath = await writeReportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printStudy(summary, folder, reportPath);
 }
