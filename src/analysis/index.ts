@@ -35,3 +35,9 @@ export {
 export { tradeoffs, type Tradeoff } from './tradeoffs.js';
 export { verdictFor, verdicts, percent, NOT_IDENTIFIABLE_SHARE, type Verdict, type VerdictKind } from './verdict.js';
 export { summarize, summarizeByTrials, type SummarizeOptions, type SummaryData, type Summary } from './summarize.js';
+export {
+  randomEffectsSelection,
+  exceedanceProbabilities,
+  type RandomEffectsOptions,
+  type RandomEffectsSelection,
+} from './randomEffects.js';

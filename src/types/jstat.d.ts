@@ -3,6 +3,7 @@ declare module 'jstat' {
   interface JStatStatic {
     gammaln(x: number): number;
     lowRegGamma(a: number, x: number): number;
+    ibeta(x: number, a: number, b: number): number;
     gammapinv(p: number, a: number): number;
     normal: { inv(p: number, mean: number, sd: number): number };
   }
