@@ -5,6 +5,7 @@ import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
+import { planCommand } from './plan.js';
 
 const require = createRequire(import.meta.url);
 const { version } = require('../../package.json') as { version: string };
@@ -44,6 +45,23 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => runCommand(file, opts, version));
+  program
+    .command('plan')
+    .description('size participants × trials for the planned group analysis: resample whole studies from a pool of simulated participants')
+    .argument('<scenario>', 'scenario file with a plan section (YAML or JSON)')
+    .option('--participants <list>', 'numbers of participants to try, e.g. 10,20,40 (overrides plan.participants)')
+    .option('--trials <list>', 'trials per participant: a list 60,120,240 or a range 60:480:60 (overrides plan.trials)')
+    .option('--pool <n>', 'simulated participants per population model (overrides plan.pool)')
+    .option('--resamples <n>', 'simulated studies per cell (overrides plan.resamples)')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--workers <w>', 'worker threads for the pool fits (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>-plan)')
+    .option('--resume', 'continue an interrupted pool, or reuse a finished one with new grid settings')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--shard <K/N>', 'fit only shard K of N of the pool (for cluster array jobs); no resampling')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => planCommand(file, opts, version));
   await program.parseAsync(argv);
 }
 

@@ -68,7 +68,7 @@ function csvCell(v: unknown): string {
   const s = String(v);
   return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
-const csv = (header: string[], rows: unknown[][]) => [header.join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
+export const csv = (header: string[], rows: unknown[][]) => [header.join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
 
 /** One row per (job, candidate fit). */
 export function fitsCsv(lines: readonly JobLine[]): string {

@@ -1,0 +1,171 @@
+/**
+ * `lossprobe plan SCENARIO`: size participants × trials for the planned
+ * group analysis. Fills (or resumes) a pool of per-participant fits with the
+ * recovery engine, resamples whole studies from it over the grid, and writes
+ * summary.json, plan.csv, pool-summary.json and figures/plan-heatmap.svg into
+ * the run folder (default results/<name>-plan).
+ */
+import Table from 'cli-table3';
+import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { buildPool } from '../analysis/planPool.js';
+import { resampleGrid, type GridCell } from '../analysis/planGrid.js';
+import { chooseDesign } from '../analysis/planChoice.js';
+import { evidenceTies, poolUse } from '../analysis/planDiagnostics.js';
+import type { GroupAnalysis } from '../analysis/groupConclusion.js';
+import { loadPlan, type PlanStudy } from '../engine/planStudy.js';
+import { planJobs } from '../engine/plan.js';
+import { runStudy } from '../engine/runStudy.js';
+import { parseShard, shardJobs } from '../engine/shard.js';
+import { streamFromKey } from '../numerics/rng.js';
+import { planHeatmap } from '../report/planHeatmap.js';
+import { describeAnalysis, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
+import { studySummary } from '../report/studyOutputs.js';
+import { openRunFolder, parseTrials } from './run.js';
+import { UserError } from './userError.js';
+
+export interface PlanFlags {
+  participants?: string;
+  trials?: string;
+  pool?: string;
+  resamples?: string;
+  seed?: string;
+  workers?: string;
+  out?: string;
+  resume?: boolean;
+  overwrite?: boolean;
+  json?: boolean;
+  quiet?: boolean;
+  shard?: string;
+}
+
+function wholeNumber(flag: string, v: string | undefined, min: number, max: number): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < min || n > max) throw new UserError(`--${flag} expects a whole number from ${min} to ${max} (got '${v}')`);
+  return n;
+}
+
+function participantList(v: string | undefined): number[] | undefined {
+  if (v === undefined) return undefined;
+  const list = v.split(',').map((s) => Number(s.trim()));
+  if (!list.length || list.some((n) => !Number.isInteger(n) || n < 2 || n > 100_000)) throw new UserError(`--participants expects whole numbers from 2 to 100000, as a list such as 10,20,40 (got '${v}')`);
+  return [...new Set(list)];
+}
+
+/** Write every file to a temporary name first, then rename them all: no output is ever seen half-written. */
+function writeOutputs(folder: string, files: Record<string, string>): void {
+  const staged: [string, string][] = [];
+  for (const [name, text] of Object.entries(files)) {
+    const path = join(folder, name);
+    mkdirSync(join(path, '..'), { recursive: true });
+    const tmp = `${path}.partial-${process.pid}`;
+    writeFileSync(tmp, text);
+    staged.push([tmp, path]);
+  }
+  for (const [tmp, path] of staged) renameSync(tmp, path);
+}
+
+const pct = (x: number | null) => (x === null || !Number.isFinite(x) ? '–' : `${Math.round(100 * x)}%`);
+
+function analysisOf(p: PlanStudy): GroupAnalysis {
+  const a = p.plan.analysis;
+  return a.method === 'random-effects' ? { method: a.method, rule: a.rule, threshold: a.threshold } : { method: a.method, minimumShare: a.minimumShare };
+}
+
+export function printPlan(x: PlanInputs, folder: string): void {
+  const ns = [...new Set(x.cells.map((c) => c.participants))];
+  const ts = x.pool.trials;
+  console.log(`\nGroup plan '${x.name}' (seed ${x.seed}, ${x.plan.resamples} simulated studies per cell)`);
+  console.log(`Group analysis: ${describeAnalysis(x.plan, x.majority)}.`);
+  console.log(`P(correct group conclusion) [95% interval]; * reaches the target ${pct(x.plan.target)}.`);
+  const table = new Table({
+    head: ['participants ↓ / trials →', ...ts.map(String)],
+    style: { head: [], border: [] },
+    chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' },
+  });
+  const cell = (c: GridCell | undefined) => (c ? `${pct(c.correct.estimate)} [${pct(c.correct.lower)}–${pct(c.correct.upper)}]${c.correct.estimate >= x.plan.target ? ' *' : ''}` : '');
+  for (const n of ns) table.push([String(n), ...ts.map((t) => cell(x.cells.find((c) => c.participants === n && c.trials === t)))]);
+  console.log(table.toString());
+  const ch = x.choice;
+  const pair = (c: GridCell) => `N = ${c.participants}, T = ${c.trials} (${pct(c.correct.estimate)})`;
+  if (ch.cheapest) console.log(`Cheapest design reaching the target: ${pair(ch.cheapest.cell)}, cost ${+ch.cheapest.cost.toFixed(2)}.`);
+  if (ch.frontier.length) console.log(`Smallest designs reaching the target (fewer participants need more trials): ${ch.frontier.map(pair).join('; ')}.`);
+  for (const n of planNotes(x)) console.log(`\n${n}`);
+  console.log(`\n${PLAN_CAUTION}`);
+  console.log(`Run folder: ${folder}/ (summary.json, plan.csv, pool-summary.json, jobs.jsonl, figures/plan-heatmap.svg)`);
+}
+
+export async function planCommand(file: string, flags: PlanFlags, toolVersion: string): Promise<void> {
+  const seed = wholeNumber('seed', flags.seed, 0, Number.MAX_SAFE_INTEGER);
+  const p = loadPlan(file, {
+    seed,
+    participants: participantList(flags.participants),
+    trials: parseTrials(flags.trials),
+    pool: wholeNumber('pool', flags.pool, 2, 100_000),
+    resamples: wholeNumber('resamples', flags.resamples, 20, 1_000_000),
+  });
+  if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
+  const workers = wholeNumber('workers', flags.workers, 1, 256);
+  const shard = flags.shard === undefined ? undefined : parseShard(flags.shard);
+  if (typeof shard === 'string') throw new UserError(shard);
+  const base = flags.out ?? join('results', `${p.pool.scenario.name}-plan`);
+  const folder = shard ? join(base, `shard-${shard.index}-of-${shard.count}`) : base;
+  if (flags.overwrite && existsSync(folder)) {
+    // Only ever delete what is recognisably a run folder.
+    const isRun = existsSync(join(folder, 'jobs.jsonl')) || existsSync(join(folder, 'scenario.json')) || readdirSync(folder).length === 0;
+    if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
+    rmSync(folder, { recursive: true, force: true });
+  }
+  openRunFolder(folder, p.pool, flags.resume ?? false);
+  const jobs = shard ? shardJobs(planJobs(p.pool), shard) : undefined;
+  const outcome = await runStudy(p.pool, { folder, workers, jobs, quiet: flags.quiet || flags.json });
+  if (outcome.interrupted) {
+    process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished pool fits are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);
+    process.exit(130);
+  }
+  if (shard) {
+    const msg = `Shard ${shard.index} of ${shard.count} of the pool of '${p.pool.scenario.name}': ${jobs!.length} of ${planJobs(p.pool).length} fits are in ${folder}/jobs.jsonl. When every shard has finished, join their jobs.jsonl lines into one run folder and run plan again on it with --out and --resume to resample the studies.`;
+    if (flags.json) process.stdout.write(JSON.stringify({ shard, folder, jobs: jobs!.length, failed: outcome.failed }, null, 2) + '\n');
+    else console.log(msg);
+    return;
+  }
+  const s = p.pool.scenario;
+  const candidates = p.pool.candidates.map((c) => c.name);
+  const evidence = p.plan.analysis.method === 'random-effects' ? p.plan.analysis.evidence : s.fitting.criterion === 'cv' ? 'cv' : 'bic';
+  const pool = buildPool(outcome.lines, { candidates, generating: p.pool.generating, trials: p.pool.trialCounts, evidence, criterion: s.fitting.criterion, margin: s.fitting.margin });
+  const empty = p.pool.generating.filter((g) => pool.byModel[g].length === 0);
+  if (empty.length) throw new UserError(`every simulated participant of ${empty.join(', ')} had a failed fit, so the pool holds none to resample; see ${folder}/jobs.jsonl`);
+  if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * pool.trials.length} (participants, trials) cells…\n`);
+  const cells = resampleGrid(pool, {
+    participants: p.plan.participants,
+    population: p.plan.population,
+    majority: p.majority,
+    analysis: analysisOf(p),
+    resamples: p.plan.resamples,
+    streamFor: (key) => streamFromKey(`lossprobe-plan/${s.seed}/${key}`),
+  });
+  const inputs: PlanInputs = {
+    name: s.name,
+    seed: s.seed,
+    scenarioHash: p.pool.hash,
+    toolVersion,
+    plan: p.plan,
+    majority: p.majority,
+    pool,
+    poolSize: s.generate.observers,
+    cells,
+    choice: chooseDesign(cells, p.plan.target, p.plan.cost),
+    ties: evidenceTies(pool, p.majority),
+    poolUse: poolUse(pool, p.plan.population, p.plan.participants),
+  };
+  const summary = planSummary(inputs);
+  writeOutputs(folder, {
+    'summary.json': JSON.stringify(summary, null, 2) + '\n',
+    'plan.csv': planCsv(inputs),
+    'pool-summary.json': JSON.stringify(studySummary(p.pool, outcome.lines, toolVersion), null, 2) + '\n',
+    'figures/plan-heatmap.svg': await planHeatmap(cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
+  });
+  if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
+  else printPlan(inputs, folder);
+}

@@ -1,0 +1,181 @@
+/**
+ * The outputs of `lossprobe plan` after resampling: summary.json (a
+ * versioned `plan` object), the tidy grid CSV, and the plain-words notes
+ * (method, limits, warnings, why a target is out of reach) shared by the
+ * terminal, the summary and the report.
+ */
+import { jsonSafe } from '../analysis/jsonSafe.js';
+import type { DesignChoice, Costs } from '../analysis/planChoice.js';
+import { studyCost } from '../analysis/planChoice.js';
+import type { PoolUse, TiedPair } from '../analysis/planDiagnostics.js';
+import { TIED_EVIDENCE } from '../analysis/planDiagnostics.js';
+import type { GridCell } from '../analysis/planGrid.js';
+import type { PlanPool } from '../analysis/planPool.js';
+import type { PlanSpec } from '../scenario/planSchema.js';
+import { csv as csvTable } from './studyOutputs.js';
+
+export const PLAN_VERSION = 1;
+
+export const PLAN_CAUTION =
+  'A simulation holds only under its assumptions (the candidate models, the population shares and the parameter draws of the scenario). It complements, and does not replace, a pilot study and the advice of your local ethics board and statistician.';
+
+export interface PlanInputs {
+  name: string;
+  seed: number;
+  scenarioHash: string;
+  toolVersion: string;
+  plan: PlanSpec;
+  majority: string;
+  pool: PlanPool;
+  /** Simulated participants per population model (before exclusions). */
+  poolSize: number;
+  cells: GridCell[];
+  choice: DesignChoice;
+  ties: TiedPair[];
+  poolUse: PoolUse[];
+}
+
+const pct = (x: number) => `${Math.round(100 * x)}%`;
+
+export function describeAnalysis(plan: PlanSpec, majority: string): string {
+  const a = plan.analysis;
+  if (a.method === 'random-effects') {
+    const ev = a.evidence === 'cv' ? 'cross-validated log-likelihood' : `−${a.evidence.toUpperCase()}/2`;
+    const what = a.rule === 'protected-exceedance' ? 'protected exceedance probability' : 'exceedance probability';
+    return `random-effects model selection on ${ev} per participant; the conclusion is correct when ${majority} (the true majority model) has ${what} above ${a.threshold}`;
+  }
+  const share = a.minimumShare > 0 ? ` and more than ${pct(a.minimumShare)} of all participants` : '';
+  return `count of per-participant winners; the conclusion is correct when ${majority} (the true majority model) wins more participants than any other model${share}`;
+}
+
+function population(plan: PlanSpec, candidates: readonly string[]): string {
+  return candidates
+    .filter((c) => (plan.population[c] ?? 0) > 0)
+    .map((c) => `${c} ${pct(plan.population[c])}`)
+    .join(', ');
+}
+
+/** Plain-words notes, most important first. */
+export function planNotes(x: PlanInputs): string[] {
+  const notes: string[] = [];
+  const models = x.pool.candidates.filter((c) => (x.plan.population[c] ?? 0) > 0);
+  const usable = models.map((m) => `${x.pool.byModel[m].length} ${m}`).join(', ');
+  notes.push(
+    `Each simulated study recruits N participants independently from the population (${population(x.plan, x.pool.candidates)}) and takes each one, with replacement, from a pool of simulated participants fitted at every trial count (${usable}): a study is a resample of simulated participants, not a fresh simulation.`,
+  );
+  const maxN = Math.max(...x.plan.participants);
+  const largest = x.poolUse.filter((u) => u.participants === maxN);
+  notes.push(
+    `Studies share participants, so the intervals cover only the resampling error given this pool, not the pool's own sampling error; they are optimistic when N is large relative to the pool. The largest study (N = ${maxN}) draws on average ${largest
+      .map((u) => `${u.expectedDraws.toFixed(1)} of ${u.pool} ${u.model} (${pct(u.distinctShare)} distinct)`)
+      .join(', ')}.`,
+  );
+  const warned = [...new Set(x.poolUse.filter((u) => u.warn).map((u) => u.participants))];
+  if (warned.length)
+    notes.push(
+      `Warning: at N = ${warned.join(', ')} a study draws at least half of some model's pool; P(correct) there is likely optimistic. Enlarge the pool (plan.pool or --pool) to at least twice the largest N × share.`,
+    );
+  const excluded = Object.entries(x.pool.excluded).filter(([, n]) => n > 0);
+  if (excluded.length) notes.push(`Left out of the pool because a fit failed at some trial count: ${excluded.map(([m, n]) => `${n} ${m}`).join(', ')}.`);
+  const tMax = x.pool.trials[x.pool.trials.length - 1];
+  const equivalent = x.ties.filter((t) => t.equivalent);
+  for (const t of equivalent) {
+    const growth = x.pool.trials.map((tr, i) => `${t.medianDifference[i].toFixed(2)} at ${tr}`).join(', ');
+    notes.push(
+      `Tied evidence: ${x.majority} and ${t.model} receive the same evidence (|difference| < ${TIED_EVIDENCE}) for ${pct(t.tiedShare[t.tiedShare.length - 1])} of simulated participants at ${tMax} trials (median |difference| ${growth} trials). This design cannot tell them apart, so no number of participants or trials lets the group analysis single out ${x.majority}.`,
+    );
+  }
+  const c = x.choice;
+  const best = `${pct(c.best.correct.estimate)} [${pct(c.best.correct.lower)}–${pct(c.best.correct.upper)}] at N = ${c.best.participants}, T = ${c.best.trials}`;
+  if (!c.reached) {
+    let why: string;
+    if (equivalent.length) why = `because of the tied evidence above`;
+    else if (c.best.wrong / c.best.studies >= 0.2)
+      why = `and ${pct(c.best.wrong / c.best.studies)} of studies there name another model: per-participant fits favour the wrong model often enough to mislead the group analysis (see pool-summary.json)`;
+    else why = `more participants or trials than the grid holds are needed (or a design that separates the models better)`;
+    notes.push(`No (N, T) in the grid reaches the target ${pct(c.target)}; the best is ${best}, ${why}.`);
+  } else if (c.borderline.length) {
+    notes.push(
+      `Borderline: ${c.borderline.map((b) => `N = ${b.participants}, T = ${b.trials}`).join('; ')} reach the target by estimate but the interval still extends below it; more resamples (--resamples) would settle this.`,
+    );
+  }
+  return notes;
+}
+
+export function planSummary(x: PlanInputs) {
+  const costs: Costs | undefined = x.plan.cost;
+  const cellOut = (cell: GridCell) => ({
+    participants: cell.participants,
+    trials: cell.trials,
+    studies: cell.studies,
+    correct: cell.correct,
+    wrongConclusion: cell.wrong,
+    noConclusion: cell.none,
+    meanMajorityScore: cell.meanScore,
+    reachesTarget: cell.correct.estimate >= x.plan.target,
+    ...(costs ? { cost: studyCost(cell, costs) } : {}),
+  });
+  const pair = (cell: GridCell) => ({ participants: cell.participants, trials: cell.trials, probability: cell.correct.estimate, ...(costs ? { cost: studyCost(cell, costs) } : {}) });
+  return jsonSafe({
+    version: PLAN_VERSION,
+    kind: 'plan',
+    name: x.name,
+    seed: x.seed,
+    provenance: { tool: 'lossprobe', toolVersion: x.toolVersion, node: process.version, scenarioHash: x.scenarioHash },
+    plan: {
+      version: PLAN_VERSION,
+      models: x.pool.candidates,
+      population: x.plan.population,
+      majorityModel: x.majority,
+      analysis: x.plan.analysis,
+      correctConclusion: describeAnalysis(x.plan, x.majority),
+      target: x.plan.target,
+      resamples: x.plan.resamples,
+      participants: [...x.plan.participants].sort((a, b) => a - b),
+      trials: x.pool.trials,
+      cost: costs ?? null,
+      pool: {
+        evidence: x.pool.evidenceKind,
+        simulatedPerModel: x.poolSize,
+        usable: Object.fromEntries(Object.entries(x.pool.byModel).map(([m, ps]) => [m, ps.length])),
+        excluded: x.pool.excluded,
+      },
+      grid: x.cells.map(cellOut),
+      choice: {
+        targetReached: x.choice.reached,
+        cheapest: x.choice.cheapest ? pair(x.choice.cheapest.cell) : null,
+        frontier: x.choice.frontier.map(pair),
+        best: pair(x.choice.best),
+        borderline: x.choice.borderline.map(pair),
+      },
+      tiedEvidence: x.ties.map((t) => ({ model: t.model, trials: x.pool.trials, tiedShare: t.tiedShare, medianDifference: t.medianDifference, equivalent: t.equivalent })),
+      poolUse: x.poolUse,
+      notes: planNotes(x),
+      caution: PLAN_CAUTION,
+    },
+  });
+}
+
+export type PlanSummary = ReturnType<typeof planSummary>;
+
+/** One row per (participants, trials) cell. */
+export function planCsv(x: PlanInputs): string {
+  const costs = x.plan.cost;
+  return csvTable(
+    ['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost'],
+    x.cells.map((c) => [
+      c.participants,
+      c.trials,
+      c.studies,
+      c.correct.successes,
+      c.correct.estimate,
+      c.correct.lower,
+      c.correct.upper,
+      c.wrong,
+      c.none,
+      c.meanScore,
+      c.correct.estimate >= x.plan.target,
+      costs ? studyCost(c, costs) : null,
+    ]),
+  );
+}
