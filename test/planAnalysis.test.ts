@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { groupVerdict, type GroupAnalysis, type StudyRow } from '../src/analysis/groupConclusion.js';
 import { chooseDesign, studyCost } from '../src/analysis/planChoice.js';
-import { drawStudy, resampleGrid, type GridCell } from '../src/analysis/planGrid.js';
+import { drawStudy, poolAwareInterval, resampleGrid, type GridCell } from '../src/analysis/planGrid.js';
 import { poolUse } from '../src/analysis/planDiagnostics.js';
 import type { PlanPool, PoolParticipant } from '../src/analysis/planPool.js';
 import { proportion, wilsonInterval } from '../src/analysis/wilson.js';
@@ -107,6 +107,25 @@ const cell = (participants: number, trials: number, p: number): GridCell => ({
   wrong: 0,
   none: 1000 - Math.round(p * 1000),
   meanScore: p,
+});
+
+describe('pool-aware interval', () => {
+  it('equals the Wilson interval when the pool replicates agree beyond doubt, and widens with their spread', () => {
+    // Replicates spread exactly as binomial noise predicts → no pool variance → n_eff = n (Kish 1965 design effect 1).
+    const same = poolAwareInterval(300, 1000, [0.3, 0.3, 0.3, 0.3], 50);
+    const wilson = wilsonInterval(300, 1000);
+    expect(same.poolSd).toBe(0);
+    expect(same.effectiveStudies).toBe(1000);
+    expect(same.lower).toBeCloseTo(wilson.lower, 12);
+    expect(same.upper).toBeCloseTo(wilson.upper, 12);
+    // Replicates 0.1 apart at m = 1000 studies each: between-replicate variance 0.02/3 less the binomial noise Σp(1−p)/4/999.
+    const spread = poolAwareInterval(300, 1000, [0.2, 0.3, 0.4, 0.3], 1000);
+    const between = (0.01 + 0 + 0.01 + 0) / 3;
+    const noise = (0.16 + 0.21 + 0.24 + 0.21) / 4 / 999;
+    expect(spread.poolSd).toBeCloseTo(Math.sqrt(between - noise), 12);
+    expect(spread.lower).toBeLessThan(wilson.lower - 0.05);
+    expect(spread.upper).toBeGreaterThan(wilson.upper + 0.05);
+  });
 });
 
 describe('design choice', () => {

@@ -41,11 +41,14 @@ describe('lossprobe plan', () => {
       expect(c.correct.lower).toBeLessThanOrEqual(c.correct.estimate);
       expect(c.correct.upper).toBeGreaterThanOrEqual(c.correct.estimate);
       expect(c.correct.successes + c.wrongConclusion + c.noConclusion).toBe(50);
+      // The pool-aware interval is never narrower than the resampling one.
+      expect(c.correctWithPoolError.lower).toBeLessThanOrEqual(c.correct.lower + 1e-12);
+      expect(c.correctWithPoolError.upper).toBeGreaterThanOrEqual(c.correct.upper - 1e-12);
     }
     // N = 8 from a pool of 6 must raise the pool-size warning.
     expect(s.plan.notes.join('\n')).toMatch(/Warning: at N = 4, 8 a study draws at least half/);
     const csv = parseCsv(readText(join(two, 'plan.csv')));
-    expect(csv[0]).toEqual(['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost']);
+    expect(csv[0]).toEqual(['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'lower_95_with_pool', 'upper_95_with_pool', 'effective_studies', 'pool_sd', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost']);
     expect(csv).toHaveLength(5);
     expect(readText(join(two, 'figures', 'plan-heatmap.svg'))).toMatch(/^<svg/);
     expect(readJson<any>(join(two, 'pool-summary.json')).generating).toEqual(['asymmetric']);

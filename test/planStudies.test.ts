@@ -103,7 +103,7 @@ describe('resampled against freshly simulated studies', () => {
     const opts = { candidates, generating: candidates, trials: [T], evidence: 'bic' as const, criterion: 'bic' as const, margin: 0 };
     // Resampled: a pool of observers 0..29 per model.
     const pool = buildPool(fitAll(study, range(0, POOL)), opts);
-    const [cell] = resampleGrid(pool, { participants: [N], population, majority: 'squared', analysis, resamples: 2000, streamFor: stream('resampled') });
+    const [cell] = resampleGrid(pool, { participants: [N], population, majority: 'squared', analysis, resamples: 2000, poolReplicates: 20, streamFor: stream('resampled') });
     // Fresh: M studies, each recruiting N brand-new participants (observers from 1000 on, never reused).
     const next: Record<string, number> = { squared: 1000, asymmetric: 1000 };
     const recruit = tracingRecruiter(candidates, population);
@@ -134,6 +134,9 @@ describe('resampled against freshly simulated studies', () => {
     const p = (fresh + resampled) / 2;
     const se = Math.sqrt((p * (1 - p)) / M + (p * (1 - p)) / 2000 + poolVar);
     expect(Math.abs(fresh - resampled)).toBeLessThan(Z95 * se);
+    // The tool's own pool-error estimate is of the same size as this bootstrap's (both from 20 replicates: within a factor of 3).
+    expect(cell.withPool!.poolSd).toBeGreaterThan(Math.sqrt(poolVar) / 3);
+    expect(cell.withPool!.poolSd).toBeLessThan(Math.sqrt(poolVar) * 3);
     // And the check can fail: the fresh studies would not match a mix that ignored the shares.
     const evenMix = resampleGrid(pool, { participants: [N], population: { squared: 0.5, asymmetric: 0.5 }, majority: 'squared', analysis, resamples: 2000, streamFor: stream('resampled') })[0];
     expect(Math.abs(fresh - evenMix.correct.estimate)).toBeGreaterThan(Z95 * se);

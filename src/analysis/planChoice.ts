@@ -23,7 +23,7 @@ export interface DesignChoice {
   cheapest: { cell: GridCell; cost: number } | null;
   /** The cell with the highest estimated P(correct) (first in grid order on ties). */
   best: GridCell;
-  /** Reaching cells whose interval still includes values below the target (more resamples would settle them). */
+  /** Frontier cells whose interval (the pool-aware one when present) still includes values below the target. */
   borderline: GridCell[];
 }
 
@@ -42,5 +42,5 @@ export function chooseDesign(cells: readonly GridCell[], target: number, costs?:
       if (!cheapest || cost < cheapest.cost || (cost === cheapest.cost && cell.participants < cheapest.cell.participants)) cheapest = { cell, cost };
     }
   const best = cells.reduce((a, b) => (b.correct.estimate > a.correct.estimate ? b : a));
-  return { target, reached: reaching.length > 0, frontier, cheapest, best, borderline: frontier.filter((c) => c.correct.lower < target) };
+  return { target, reached: reaching.length > 0, frontier, cheapest, best, borderline: frontier.filter((c) => (c.withPool ?? c.correct).lower < target) };
 }

@@ -78,13 +78,18 @@ export function printPlan(x: PlanInputs, folder: string): void {
   const ts = x.pool.trials;
   console.log(`\nGroup plan '${x.name}' (seed ${x.seed}, ${x.plan.resamples} simulated studies per cell)`);
   console.log(`Group analysis: ${describeAnalysis(x.plan, x.majority)}.`);
-  console.log(`P(correct group conclusion) [95% interval]; * reaches the target ${pct(x.plan.target)}.`);
+  const which = x.cells[0]?.withPool ? "95% interval, including the pool's sampling error" : '95% interval of the resampling';
+  console.log(`P(correct group conclusion) [${which}]; * reaches the target ${pct(x.plan.target)}.`);
   const table = new Table({
     head: ['participants ↓ / trials →', ...ts.map(String)],
     style: { head: [], border: [] },
     chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' },
   });
-  const cell = (c: GridCell | undefined) => (c ? `${pct(c.correct.estimate)} [${pct(c.correct.lower)}–${pct(c.correct.upper)}]${c.correct.estimate >= x.plan.target ? ' *' : ''}` : '');
+  const cell = (c: GridCell | undefined) => {
+    if (!c) return '';
+    const i = c.withPool ?? c.correct;
+    return `${pct(c.correct.estimate)} [${pct(i.lower)}–${pct(i.upper)}]${c.correct.estimate >= x.plan.target ? ' *' : ''}`;
+  };
   for (const n of ns) table.push([String(n), ...ts.map((t) => cell(x.cells.find((c) => c.participants === n && c.trials === t)))]);
   console.log(table.toString());
   const ch = x.choice;
@@ -143,6 +148,7 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     majority: p.majority,
     analysis: analysisOf(p),
     resamples: p.plan.resamples,
+    poolReplicates: p.plan.poolReplicates,
     streamFor: (key) => streamFromKey(`lossprobe-plan/${s.seed}/${key}`),
   });
   const inputs: PlanInputs = {

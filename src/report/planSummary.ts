@@ -65,8 +65,13 @@ export function planNotes(x: PlanInputs): string[] {
   );
   const maxN = Math.max(...x.plan.participants);
   const largest = x.poolUse.filter((u) => u.participants === maxN);
+  const replicates = x.plan.poolReplicates >= 2 && x.cells[0]?.withPool;
   notes.push(
-    `Studies share participants, so the intervals cover only the resampling error given this pool, not the pool's own sampling error; they are optimistic when N is large relative to the pool. The largest study (N = ${maxN}) draws on average ${largest
+    `Studies share participants, so the Wilson intervals of the resampling cover only its error given this pool. ${
+      replicates
+        ? `The intervals in the table also count the pool's own sampling error, estimated from ${x.plan.poolReplicates} bootstrap replicates of the pool; both kinds are in summary.json and plan.csv, and both remain optimistic when N is large relative to the pool.`
+        : `The pool's own sampling error is not counted (plan.poolReplicates is 0); the intervals are optimistic, the more so the larger N is relative to the pool.`
+    } The largest study (N = ${maxN}) draws on average ${largest
       .map((u) => `${u.expectedDraws.toFixed(1)} of ${u.pool} ${u.model} (${pct(u.distinctShare)} distinct)`)
       .join(', ')}.`,
   );
@@ -86,7 +91,8 @@ export function planNotes(x: PlanInputs): string[] {
     );
   }
   const c = x.choice;
-  const best = `${pct(c.best.correct.estimate)} [${pct(c.best.correct.lower)}–${pct(c.best.correct.upper)}] at N = ${c.best.participants}, T = ${c.best.trials}`;
+  const bi = c.best.withPool ?? c.best.correct;
+  const best = `${pct(c.best.correct.estimate)} [${pct(bi.lower)}–${pct(bi.upper)}] at N = ${c.best.participants}, T = ${c.best.trials}`;
   if (!c.reached) {
     let why: string;
     if (equivalent.length) why = `because of the tied evidence above`;
@@ -96,7 +102,7 @@ export function planNotes(x: PlanInputs): string[] {
     notes.push(`No (N, T) in the grid reaches the target ${pct(c.target)}; the best is ${best}, ${why}.`);
   } else if (c.borderline.length) {
     notes.push(
-      `Borderline: ${c.borderline.map((b) => `N = ${b.participants}, T = ${b.trials}`).join('; ')} reach the target by estimate but the interval still extends below it; more resamples (--resamples) would settle this.`,
+      `Borderline: ${c.borderline.map((b) => `N = ${b.participants}, T = ${b.trials}`).join('; ')} reach the target by estimate but the interval still extends below it; more resamples (--resamples) or a larger pool (--pool) would settle this.`,
     );
   }
   return notes;
@@ -109,6 +115,7 @@ export function planSummary(x: PlanInputs) {
     trials: cell.trials,
     studies: cell.studies,
     correct: cell.correct,
+    correctWithPoolError: cell.withPool ?? null,
     wrongConclusion: cell.wrong,
     noConclusion: cell.none,
     meanMajorityScore: cell.meanScore,
@@ -131,6 +138,7 @@ export function planSummary(x: PlanInputs) {
       correctConclusion: describeAnalysis(x.plan, x.majority),
       target: x.plan.target,
       resamples: x.plan.resamples,
+      poolReplicates: x.plan.poolReplicates,
       participants: [...x.plan.participants].sort((a, b) => a - b),
       trials: x.pool.trials,
       cost: costs ?? null,
@@ -162,7 +170,7 @@ export type PlanSummary = ReturnType<typeof planSummary>;
 export function planCsv(x: PlanInputs): string {
   const costs = x.plan.cost;
   return csvTable(
-    ['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost'],
+    ['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'lower_95_with_pool', 'upper_95_with_pool', 'effective_studies', 'pool_sd', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost'],
     x.cells.map((c) => [
       c.participants,
       c.trials,
@@ -171,6 +179,10 @@ export function planCsv(x: PlanInputs): string {
       c.correct.estimate,
       c.correct.lower,
       c.correct.upper,
+      c.withPool?.lower ?? null,
+      c.withPool?.upper ?? null,
+      c.withPool?.effectiveStudies ?? null,
+      c.withPool?.poolSd ?? null,
       c.wrong,
       c.none,
       c.meanScore,

@@ -51,6 +51,14 @@ export const planSchema = z.strictObject({
   analysis: z.discriminatedUnion('method', [randomEffectsSchema, winnerCountSchema]).prefault({ method: 'random-effects' }),
   target: z.number().gt(0).lt(1).default(0.8).describe('wanted probability of the correct group conclusion'),
   resamples: z.number().int().min(20).max(1_000_000).default(1000).describe('simulated studies per (participants, trials) cell'),
+  poolReplicates: z
+    .number()
+    .int()
+    .min(0)
+    .max(1000)
+    .default(20)
+    .refine((b) => b !== 1, { message: 'use 0 (off) or at least 2 replicates' })
+    .describe("bootstrap replicates of the pool, for intervals that also count the pool's own sampling error (0: off; costs about as much again as the resamples)"),
   cost: z
     .strictObject({
       participant: z.number().min(0).default(0).describe('cost of one participant regardless of trials (recruitment, set-up)'),
