@@ -11,7 +11,7 @@ import { join } from 'node:path';
 import { exists, lossprobe, parseCsv, readJson, readText, removeTemp, tempDir } from './helpers/studyFixture.js';
 
 const FIXTURE = join(process.cwd(), 'test', 'fixtures', 'plan-gaussian.yaml');
-const SMALL = ['--participants', '4,8', '--trials', '20,40', '--pool', '6', '--resamples', '50', '--quiet'];
+const SMALL = ['--participants', '4,8', '--trials', '20,40', '--pool', '6', '--resamples', '50', '--pool-replicates', '3', '--quiet'];
 
 afterAll(removeTemp);
 

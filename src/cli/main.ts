@@ -53,6 +53,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--trials <list>', 'trials per participant: a list 60,120,240 or a range 60:480:60 (overrides plan.trials)')
     .option('--pool <n>', 'simulated participants per population model (overrides plan.pool)')
     .option('--resamples <n>', 'simulated studies per cell (overrides plan.resamples)')
+    .option('--pool-replicates <b>', "bootstrap replicates of the pool for intervals that count its sampling error; 0 turns them off (overrides plan.poolReplicates)")
     .option('--seed <s>', 'master seed (overrides the scenario)')
     .option('--workers <w>', 'worker threads for the pool fits (default: all cores)')
     .option('--out <folder>', 'run folder (default results/<name>-plan)')

@@ -29,6 +29,7 @@ export interface PlanFlags {
   trials?: string;
   pool?: string;
   resamples?: string;
+  poolReplicates?: string;
   seed?: string;
   workers?: string;
   out?: string;
@@ -109,6 +110,7 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     trials: parseTrials(flags.trials),
     pool: wholeNumber('pool', flags.pool, 2, 100_000),
     resamples: wholeNumber('resamples', flags.resamples, 20, 1_000_000),
+    poolReplicates: wholeNumber('pool-replicates', flags.poolReplicates, 0, 1000),
   });
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   const workers = wholeNumber('workers', flags.workers, 1, 256);

@@ -26,6 +26,7 @@ export interface PlanOverrides {
   trials?: number[];
   pool?: number;
   resamples?: number;
+  poolReplicates?: number;
 }
 
 export function poolScenario(s: Scenario, plan: PlanSpec): Scenario {
@@ -55,7 +56,9 @@ export function loadPlan(file: string, o: PlanOverrides = {}): PlanStudy {
     ...(o.trials ? { trials: o.trials } : {}),
     ...(o.pool !== undefined ? { pool: o.pool } : {}),
     ...(o.resamples !== undefined ? { resamples: o.resamples } : {}),
+    ...(o.poolReplicates !== undefined ? { poolReplicates: o.poolReplicates } : {}),
   };
+  if (plan.poolReplicates === 1) throw new UserError('--pool-replicates expects 0 (off) or at least 2');
   plan.participants = [...new Set(plan.participants)].sort((a, b) => a - b);
   const pool = resolveStudy(poolScenario(s, plan), file);
   const majority = Object.entries(plan.population).reduce((a, b) => (b[1] > a[1] ? b : a))[0];
