@@ -19,7 +19,7 @@ import { runStudy } from '../engine/runStudy.js';
 import { parseShard, shardJobs } from '../engine/shard.js';
 import { streamFromKey } from '../numerics/rng.js';
 import { planHeatmap } from '../report/planHeatmap.js';
-import { describeAnalysis, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
+import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
 import { studySummary } from '../report/studyOutputs.js';
 import { openRunFolder, parseTrials } from './run.js';
 import { UserError } from './userError.js';
@@ -89,12 +89,12 @@ export function printPlan(x: PlanInputs, folder: string): void {
   const cell = (c: GridCell | undefined) => {
     if (!c) return '';
     const i = c.withPool ?? c.correct;
-    return `${pct(c.correct.estimate)} [${pct(i.lower)}–${pct(i.upper)}]${c.correct.estimate >= x.plan.target ? ' *' : ''}`;
+    return `${percentNear(c.correct.estimate, x.plan.target)} [${pct(i.lower)}–${pct(i.upper)}]${c.correct.estimate >= x.plan.target ? ' *' : ''}`;
   };
   for (const n of ns) table.push([String(n), ...ts.map((t) => cell(x.cells.find((c) => c.participants === n && c.trials === t)))]);
   console.log(table.toString());
   const ch = x.choice;
-  const pair = (c: GridCell) => `N = ${c.participants}, T = ${c.trials} (${pct(c.correct.estimate)})`;
+  const pair = (c: GridCell) => `N = ${c.participants}, T = ${c.trials} (${percentNear(c.correct.estimate, x.plan.target)})`;
   if (ch.cheapest) console.log(`Cheapest design reaching the target: ${pair(ch.cheapest.cell)}, cost ${+ch.cheapest.cost.toFixed(2)}.`);
   if (ch.frontier.length) console.log(`Smallest designs reaching the target (fewer participants need more trials): ${ch.frontier.map(pair).join('; ')}.`);
   for (const n of planNotes(x)) console.log(`\n${n}`);

@@ -8,6 +8,7 @@
  */
 import type { GridCell } from '../analysis/planGrid.js';
 import { renderSvg } from './charts.js';
+import { percentNear } from './planSummary.js';
 
 interface Segment {
   x: number;
@@ -38,7 +39,7 @@ export async function planHeatmap(cells: readonly GridCell[], target: number, ti
     const x = ts.indexOf(c.trials);
     const y = ns.indexOf(c.participants);
     const p = c.correct.estimate;
-    return { x0: x - 0.5, x1: x + 0.5, y0: y - 0.5, y1: y + 0.5, x, y, p, label: `${Math.round(100 * p)}%`, dark: p < 0.6 };
+    return { x0: x - 0.5, x1: x + 0.5, y0: y - 0.5, y1: y + 0.5, x, y, p, label: percentNear(p, target), dark: p < 0.6 };
   });
   const reaches = ns.map((n) => ts.map((t) => cells.some((c) => c.participants === n && c.trials === t && c.correct.estimate >= target)));
   const contour = targetContour(reaches);

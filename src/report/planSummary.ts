@@ -37,6 +37,12 @@ export interface PlanInputs {
 
 const pct = (x: number) => `${Math.round(100 * x)}%`;
 
+/** A P(correct) as a percentage: whole numbers, but one decimal within a point of the target, so 79.6% is never shown as a reaching "80%". */
+export function percentNear(x: number | null, target: number): string {
+  if (x === null || !Number.isFinite(x)) return '–';
+  return Math.abs(x - target) < 0.01 ? `${(100 * x).toFixed(1)}%` : `${Math.round(100 * x)}%`;
+}
+
 export function describeAnalysis(plan: PlanSpec, majority: string): string {
   const a = plan.analysis;
   if (a.method === 'random-effects') {
@@ -92,7 +98,7 @@ export function planNotes(x: PlanInputs): string[] {
   }
   const c = x.choice;
   const bi = c.best.withPool ?? c.best.correct;
-  const best = `${pct(c.best.correct.estimate)} [${pct(bi.lower)}–${pct(bi.upper)}] at N = ${c.best.participants}, T = ${c.best.trials}`;
+  const best = `${percentNear(c.best.correct.estimate, c.target)} [${pct(bi.lower)}–${pct(bi.upper)}] at N = ${c.best.participants}, T = ${c.best.trials}`;
   if (!c.reached) {
     let why: string;
     if (equivalent.length) why = `because of the tied evidence above`;
