@@ -21,22 +21,15 @@ import { streamFromKey } from '../numerics/rng.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
 import { studySummary } from '../report/studyOutputs.js';
-import { openRunFolder, parseTrials } from './run.js';
+import { openRunFolder, parseTrials, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
-export interface PlanFlags {
+/** The flags of `run` (except --observers: the pool size is --pool), plus the plan's own. */
+export interface PlanFlags extends Omit<RunFlags, 'observers'> {
   participants?: string;
-  trials?: string;
   pool?: string;
   resamples?: string;
   poolReplicates?: string;
-  seed?: string;
-  workers?: string;
-  out?: string;
-  resume?: boolean;
-  overwrite?: boolean;
-  json?: boolean;
-  quiet?: boolean;
   shard?: string;
 }
 
