@@ -89,33 +89,6 @@ export function drawStudy(pool: PlanPool, population: Readonly<Record<string, nu
   return out;
 }
 
-interface Tally {
-  correct: number;
-  wrong: number;
-  none: number;
-  score: number;
-}
-
-/** Group verdicts of `count` resampled studies per cell, study i drawn with the stream of `${prefix}study=${i}`. */
-function tallyStudies(pool: PlanPool, ns: readonly number[], o: GridOptions, count: number, prefix: string): Tally[][] {
-  const maxN = ns[ns.length - 1];
-  const nT = pool.trials.length;
-  const tallies = ns.map(() => Array.from({ length: nT }, () => ({ correct: 0, wrong: 0, none: 0, score: 0 })));
-  for (let i = 0; i < count; i++) {
-    const drawn = drawStudy(pool, o.population, maxN, o.streamFor(`${prefix}study=${i}`)).map((d) => pool.byModel[d.model][d.index]);
-    ns.forEach((n, a) => {
-      for (let t = 0; t < nT; t++) {
-        const rows: StudyRow[] = drawn.slice(0, n).map((p) => ({ evidence: p.evidence[t], winner: p.winner[t] }));
-        const v = groupVerdict(rows, pool.candidates, o.majority, o.analysis);
-        const tally = tallies[a][t];
-        tally[v.kind]++;
-        tally.score += v.score;
-      }
-    });
-  }
-  return tallies;
-}
-
 /** The pool redrawn with replacement within each model (one bootstrap replicate of the pool). */
 function redrawPool(pool: PlanPool, rand: () => number): PlanPool {
   const byModel: PlanPool['byModel'] = {};
@@ -151,20 +124,99 @@ export function poolAwareInterval(successes: number, n: number, replicates: numb
   return { estimate: successes / n, lower: w.lower, upper: w.upper, effectiveStudies: effective, poolSd: Math.sqrt(poolVariance) };
 }
 
-export function resampleGrid(pool: PlanPool, o: GridOptions): GridCell[] {
+/** A slice of the resampled studies: studies [from, to) drawn from the pool itself (replicate null) or from bootstrap replicate b of it. */
+export interface StudyBatch {
+  replicate: number | null;
+  from: number;
+  to: number;
+}
+
+/** Verdicts of a batch, study-major then cell (participants-major, then trials): kind code (0 correct, 1 wrong, 2 none) and majority score. */
+export interface BatchVerdicts {
+  kinds: Uint8Array;
+  scores: Float64Array;
+}
+
+export type VerdictOptions = Omit<GridOptions, 'resamples' | 'poolReplicates'>;
+
+const KIND_CODE = { correct: 0, wrong: 1, none: 2 } as const;
+
+/** Studies per replicate of the pool: the resamples spread over the replicates, at least 20 each. */
+export const studiesPerReplicate = (o: Pick<GridOptions, 'resamples' | 'poolReplicates'>) => Math.max(20, Math.ceil(o.resamples / Math.max(1, o.poolReplicates ?? 0)));
+
+/** Every batch of a grid, in study order: the pool's own studies first, then each replicate's. */
+export function studyBatches(o: Pick<GridOptions, 'resamples' | 'poolReplicates'>, size = 50): StudyBatch[] {
+  const out: StudyBatch[] = [];
+  const add = (replicate: number | null, count: number) => {
+    for (let from = 0; from < count; from += size) out.push({ replicate, from, to: Math.min(count, from + size) });
+  };
+  add(null, o.resamples);
+  const replicates = (o.poolReplicates ?? 0) >= 2 ? o.poolReplicates! : 0;
+  for (let b = 0; b < replicates; b++) add(b, studiesPerReplicate(o));
+  return out;
+}
+
+/** The group verdicts of one batch: a pure function of the pool, the options and the batch, wherever it runs. */
+export function batchVerdicts(pool: PlanPool, o: VerdictOptions, batch: StudyBatch): BatchVerdicts {
   for (const m of populationOrder(pool, o.population).models)
     if (!pool.byModel[m]?.length) throw new Error(`the pool has no usable participants of model '${m}'`);
+  const source = batch.replicate === null ? pool : redrawPool(pool, o.streamFor(`pool=${batch.replicate}`));
+  const prefix = batch.replicate === null ? '' : `pool=${batch.replicate}/`;
   const ns = [...o.participants].sort((a, b) => a - b);
-  const tallies = tallyStudies(pool, ns, o, o.resamples, '');
-  const replicates = o.poolReplicates ?? 0;
-  const perReplicate = Math.max(20, Math.ceil(o.resamples / Math.max(1, replicates)));
-  const boot = Array.from({ length: replicates }, (_, b) => tallyStudies(redrawPool(pool, o.streamFor(`pool=${b}`)), ns, o, perReplicate, `pool=${b}/`));
+  const maxN = ns[ns.length - 1];
+  const nT = pool.trials.length;
+  const cells = ns.length * nT;
+  const kinds = new Uint8Array((batch.to - batch.from) * cells);
+  const scores = new Float64Array(kinds.length);
+  for (let i = batch.from; i < batch.to; i++) {
+    const drawn = drawStudy(source, o.population, maxN, o.streamFor(`${prefix}study=${i}`)).map((d) => source.byModel[d.model][d.index]);
+    ns.forEach((n, a) => {
+      for (let t = 0; t < nT; t++) {
+        const rows: StudyRow[] = drawn.slice(0, n).map((p) => ({ evidence: p.evidence[t], winner: p.winner[t] }));
+        const v = groupVerdict(rows, pool.candidates, o.majority, o.analysis);
+        const at = (i - batch.from) * cells + a * nT + t;
+        kinds[at] = KIND_CODE[v.kind];
+        scores[at] = v.score;
+      }
+    });
+  }
+  return { kinds, scores };
+}
+
+/** The grid from the verdicts of every batch of studyBatches(o), added up in study order (so the sums do not depend on who computed which batch). */
+export function gridFromVerdicts(pool: PlanPool, o: Omit<GridOptions, 'streamFor'>, batches: readonly StudyBatch[], verdicts: readonly BatchVerdicts[]): GridCell[] {
+  const ns = [...o.participants].sort((a, b) => a - b);
+  const nT = pool.trials.length;
+  const cells = ns.length * nT;
+  const replicates = (o.poolReplicates ?? 0) >= 2 ? o.poolReplicates! : 0;
+  const counts = Array.from({ length: cells }, () => [0, 0, 0]);
+  const score = new Array<number>(cells).fill(0);
+  const bootCorrect = Array.from({ length: replicates }, () => new Array<number>(cells).fill(0));
+  batches.forEach((batch, k) => {
+    const v = verdicts[k];
+    for (let i = 0; i < batch.to - batch.from; i++)
+      for (let c = 0; c < cells; c++) {
+        const kind = v.kinds[i * cells + c];
+        if (batch.replicate === null) {
+          counts[c][kind]++;
+          score[c] += v.scores[i * cells + c];
+        } else if (kind === 0) bootCorrect[batch.replicate][c]++;
+      }
+  });
+  const perReplicate = studiesPerReplicate(o);
   return ns.flatMap((n, a) =>
     pool.trials.map((trials, t) => {
-      const c = tallies[a][t];
-      const cell: GridCell = { participants: n, trials, studies: o.resamples, correct: proportion(c.correct, o.resamples), wrong: c.wrong, none: c.none, meanScore: c.score / o.resamples };
-      if (replicates >= 2) cell.withPool = poolAwareInterval(c.correct, o.resamples, boot.map((r) => r[a][t].correct / perReplicate), perReplicate);
+      const c = a * nT + t;
+      const [correct, wrong, none] = counts[c];
+      const cell: GridCell = { participants: n, trials, studies: o.resamples, correct: proportion(correct, o.resamples), wrong, none, meanScore: score[c] / o.resamples };
+      if (replicates) cell.withPool = poolAwareInterval(correct, o.resamples, bootCorrect.map((r) => r[c] / perReplicate), perReplicate);
       return cell;
     }),
   );
+}
+
+/** P(correct) over the grid, computed here in one thread. */
+export function resampleGrid(pool: PlanPool, o: GridOptions): GridCell[] {
+  const batches = studyBatches(o);
+  return gridFromVerdicts(pool, o, batches, batches.map((b) => batchVerdicts(pool, o, b)));
 }

@@ -7,17 +7,18 @@
  */
 import Table from 'cli-table3';
 import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 import { buildPool } from '../analysis/planPool.js';
-import { resampleGrid, type GridCell } from '../analysis/planGrid.js';
+import type { GridCell } from '../analysis/planGrid.js';
 import { chooseDesign } from '../analysis/planChoice.js';
 import { evidenceTies, poolUse } from '../analysis/planDiagnostics.js';
 import type { GroupAnalysis } from '../analysis/groupConclusion.js';
 import { loadPlan, type PlanStudy } from '../engine/planStudy.js';
 import { planJobs } from '../engine/plan.js';
 import { runStudy } from '../engine/runStudy.js';
+import { resampleOnWorkers } from '../engine/resampleStudies.js';
 import { parseShard, shardJobs } from '../engine/shard.js';
-import { streamFromKey } from '../numerics/rng.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
 import { studySummary } from '../report/studyOutputs.js';
@@ -137,15 +138,8 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
   const empty = p.pool.generating.filter((g) => pool.byModel[g].length === 0);
   if (empty.length) throw new UserError(`every simulated participant of ${empty.join(', ')} had a failed fit, so the pool holds none to resample; see ${folder}/jobs.jsonl`);
   if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * pool.trials.length} (participants, trials) cells…\n`);
-  const cells = resampleGrid(pool, {
-    participants: p.plan.participants,
-    population: p.plan.population,
-    majority: p.majority,
-    analysis: analysisOf(p),
-    resamples: p.plan.resamples,
-    poolReplicates: p.plan.poolReplicates,
-    streamFor: (key) => streamFromKey(`lossprobe-plan/${s.seed}/${key}`),
-  });
+  const grid = { participants: p.plan.participants, population: p.plan.population, majority: p.majority, analysis: analysisOf(p), resamples: p.plan.resamples, poolReplicates: p.plan.poolReplicates };
+  const cells = await resampleOnWorkers(pool, grid, `lossprobe-plan/${s.seed}`, workers ?? availableParallelism());
   const inputs: PlanInputs = {
     name: s.name,
     seed: s.seed,
