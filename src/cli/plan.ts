@@ -7,17 +7,12 @@
  */
 import Table from 'cli-table3';
 import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
-import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
-import { buildPool } from '../analysis/planPool.js';
 import type { GridCell } from '../analysis/planGrid.js';
-import { chooseDesign } from '../analysis/planChoice.js';
-import { evidenceTies, poolUse } from '../analysis/planDiagnostics.js';
-import type { GroupAnalysis } from '../analysis/groupConclusion.js';
-import { loadPlan, type PlanStudy } from '../engine/planStudy.js';
+import { loadPlan } from '../engine/planStudy.js';
+import { planResults } from '../engine/planResults.js';
 import { planJobs } from '../engine/plan.js';
 import { runStudy } from '../engine/runStudy.js';
-import { resampleOnWorkers } from '../engine/resampleStudies.js';
 import { parseShard, shardJobs } from '../engine/shard.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
@@ -62,11 +57,6 @@ function writeOutputs(folder: string, files: Record<string, string>): void {
 }
 
 const pct = (x: number | null) => (x === null || !Number.isFinite(x) ? '–' : `${Math.round(100 * x)}%`);
-
-function analysisOf(p: PlanStudy): GroupAnalysis {
-  const a = p.plan.analysis;
-  return a.method === 'random-effects' ? { method: a.method, rule: a.rule, threshold: a.threshold } : { method: a.method, minimumShare: a.minimumShare };
-}
 
 export function printPlan(x: PlanInputs, folder: string): void {
   const ns = [...new Set(x.cells.map((c) => c.participants))];
@@ -131,35 +121,15 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     else console.log(msg);
     return;
   }
+  if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * p.pool.trialCounts.length} (participants, trials) cells…\n`);
+  const inputs = await planResults(p, outcome.lines, { workers, toolVersion, folder });
   const s = p.pool.scenario;
-  const candidates = p.pool.candidates.map((c) => c.name);
-  const evidence = p.plan.analysis.method === 'random-effects' ? p.plan.analysis.evidence : s.fitting.criterion === 'cv' ? 'cv' : 'bic';
-  const pool = buildPool(outcome.lines, { candidates, generating: p.pool.generating, trials: p.pool.trialCounts, evidence, criterion: s.fitting.criterion, margin: s.fitting.margin });
-  const empty = p.pool.generating.filter((g) => pool.byModel[g].length === 0);
-  if (empty.length) throw new UserError(`every simulated participant of ${empty.join(', ')} had a failed fit, so the pool holds none to resample; see ${folder}/jobs.jsonl`);
-  if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * pool.trials.length} (participants, trials) cells…\n`);
-  const grid = { participants: p.plan.participants, population: p.plan.population, majority: p.majority, analysis: analysisOf(p), resamples: p.plan.resamples, poolReplicates: p.plan.poolReplicates };
-  const cells = await resampleOnWorkers(pool, grid, `lossprobe-plan/${s.seed}`, workers ?? availableParallelism());
-  const inputs: PlanInputs = {
-    name: s.name,
-    seed: s.seed,
-    scenarioHash: p.pool.hash,
-    toolVersion,
-    plan: p.plan,
-    majority: p.majority,
-    pool,
-    poolSize: s.generate.observers,
-    cells,
-    choice: chooseDesign(cells, p.plan.target, p.plan.cost),
-    ties: evidenceTies(pool, p.majority),
-    poolUse: poolUse(pool, p.plan.population, p.plan.participants),
-  };
   const summary = planSummary(inputs);
   writeOutputs(folder, {
     'summary.json': JSON.stringify(summary, null, 2) + '\n',
     'plan.csv': planCsv(inputs),
     'pool-summary.json': JSON.stringify(studySummary(p.pool, outcome.lines, toolVersion), null, 2) + '\n',
-    'figures/plan-heatmap.svg': await planHeatmap(cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
+    'figures/plan-heatmap.svg': await planHeatmap(inputs.cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
   });
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printPlan(inputs, folder);

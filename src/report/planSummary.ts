@@ -5,12 +5,10 @@
  * terminal, the summary and the report.
  */
 import { jsonSafe } from '../analysis/jsonSafe.js';
-import type { DesignChoice, Costs } from '../analysis/planChoice.js';
 import { studyCost } from '../analysis/planChoice.js';
-import type { PoolUse, TiedPair } from '../analysis/planDiagnostics.js';
 import { TIED_EVIDENCE } from '../analysis/planDiagnostics.js';
 import type { GridCell } from '../analysis/planGrid.js';
-import type { PlanPool } from '../analysis/planPool.js';
+import type { Costs } from '../analysis/planChoice.js';
 import type { PlanSpec } from '../scenario/planSchema.js';
 import { csv as csvTable } from './studyOutputs.js';
 
@@ -19,21 +17,8 @@ export const PLAN_VERSION = 1;
 export const PLAN_CAUTION =
   'A simulation holds only under its assumptions (the candidate models, the population shares and the parameter draws of the scenario). It complements, and does not replace, a pilot study and the advice of your local ethics board and statistician.';
 
-export interface PlanInputs {
-  name: string;
-  seed: number;
-  scenarioHash: string;
-  toolVersion: string;
-  plan: PlanSpec;
-  majority: string;
-  pool: PlanPool;
-  /** Simulated participants per population model (before exclusions). */
-  poolSize: number;
-  cells: GridCell[];
-  choice: DesignChoice;
-  ties: TiedPair[];
-  poolUse: PoolUse[];
-}
+export type { PlanResults as PlanInputs } from '../engine/planResults.js';
+import type { PlanResults as PlanInputs } from '../engine/planResults.js';
 
 const pct = (x: number) => `${Math.round(100 * x)}%`;
 
