@@ -23,7 +23,7 @@ describe('lossprobe plan', () => {
   const dir = tempDir();
   const two = join(dir, 'two-workers');
 
-  it('writes summary.json, plan.csv, pool-summary.json and the heatmap, and prints the grid with its cautions', () => {
+  it('writes summary.json (pool recovery + plan), plan.csv, the pool CSVs and the heatmap, and prints the grid with its cautions', () => {
     const r = plan(two, ['--workers', '2']);
     expect(r.stderr).toBe('');
     expect(r.status).toBe(0);
@@ -32,7 +32,9 @@ describe('lossprobe plan', () => {
     expect(r.stdout).toMatch(/Studies share participants/);
     expect(r.stdout).toMatch(/ethics board and statistician/);
     const s = readJson<any>(join(two, 'summary.json'));
-    expect(s).toMatchObject({ version: 1, kind: 'plan', name: 'plan-gaussian', seed: 808 });
+    // The pool's recovery summary, as every run folder has it, plus the plan object.
+    expect(s).toMatchObject({ version: 1, name: 'plan-gaussian', seed: 808, generating: ['asymmetric'] });
+    expect(s.confusion.counts).toHaveLength(1);
     expect(s.plan).toMatchObject({ version: 1, majorityModel: 'asymmetric', participants: [4, 8], trials: [20, 40], target: 0.8, resamples: 50 });
     expect(s.plan.pool).toMatchObject({ evidence: 'bic', simulatedPerModel: 6, usable: { asymmetric: 6 } });
     expect(s.plan.grid).toHaveLength(4);
@@ -51,7 +53,7 @@ describe('lossprobe plan', () => {
     expect(csv[0]).toEqual(['participants', 'trials', 'studies', 'correct', 'p_correct', 'lower_95', 'upper_95', 'lower_95_with_pool', 'upper_95_with_pool', 'effective_studies', 'pool_sd', 'wrong_conclusion', 'no_conclusion', 'mean_majority_score', 'reaches_target', 'cost']);
     expect(csv).toHaveLength(5);
     expect(readText(join(two, 'figures', 'plan-heatmap.svg'))).toMatch(/^<svg/);
-    expect(readJson<any>(join(two, 'pool-summary.json')).generating).toEqual(['asymmetric']);
+    for (const f of ['fits.csv', 'parameters.csv', 'confusion.csv', 'inversion.csv']) expect(exists(join(two, f))).toBe(true);
     expect(readText(join(two, 'jobs.jsonl')).trim().split('\n')).toHaveLength(12);
   });
 

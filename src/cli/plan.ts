@@ -2,8 +2,9 @@
  * `lossprobe plan SCENARIO`: size participants × trials for the planned
  * group analysis. Fills (or resumes) a pool of per-participant fits with the
  * recovery engine, resamples whole studies from it over the grid, and writes
- * summary.json, plan.csv, pool-summary.json and figures/plan-heatmap.svg into
- * the run folder (default results/<name>-plan).
+ * summary.json (the pool's recovery summary plus a `plan` object), the
+ * pool's CSV files, plan.csv and figures/plan-heatmap.svg into the run folder
+ * (default results/<name>-plan).
  */
 import Table from 'cli-table3';
 import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
@@ -16,8 +17,7 @@ import { runStudy } from '../engine/runStudy.js';
 import { parseShard, shardJobs } from '../engine/shard.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
-import { studySummary } from '../report/studyOutputs.js';
-import { openRunFolder, parseTrials, type RunFlags } from './run.js';
+import { openRunFolder, parseTrials, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
 /** The flags of `run` (except --observers: the pool size is --pool), plus the plan's own. */
@@ -83,7 +83,7 @@ export function printPlan(x: PlanInputs, folder: string): void {
   if (ch.frontier.length) console.log(`Smallest designs reaching the target (fewer participants need more trials): ${ch.frontier.map(pair).join('; ')}.`);
   for (const n of planNotes(x)) console.log(`\n${n}`);
   console.log(`\n${PLAN_CAUTION}`);
-  console.log(`Run folder: ${folder}/ (summary.json, plan.csv, pool-summary.json, jobs.jsonl, figures/plan-heatmap.svg)`);
+  console.log(`Run folder: ${folder}/ (summary.json, plan.csv, figures/plan-heatmap.svg, jobs.jsonl and the pool's fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
 }
 
 export async function planCommand(file: string, flags: PlanFlags, toolVersion: string): Promise<void> {
@@ -124,11 +124,10 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
   if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * p.pool.trialCounts.length} (participants, trials) cells…\n`);
   const inputs = await planResults(p, outcome.lines, { workers, toolVersion, folder });
   const s = p.pool.scenario;
-  const summary = planSummary(inputs);
+  const summary = planSummary(p.pool, outcome.lines, inputs);
+  writeStudyOutputs(folder, summary, outcome.lines);
   writeOutputs(folder, {
-    'summary.json': JSON.stringify(summary, null, 2) + '\n',
     'plan.csv': planCsv(inputs),
-    'pool-summary.json': JSON.stringify(studySummary(p.pool, outcome.lines, toolVersion), null, 2) + '\n',
     'figures/plan-heatmap.svg': await planHeatmap(inputs.cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
   });
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');

@@ -10,7 +10,9 @@ import { TIED_EVIDENCE } from '../analysis/planDiagnostics.js';
 import type { GridCell } from '../analysis/planGrid.js';
 import type { Costs } from '../analysis/planChoice.js';
 import type { PlanSpec } from '../scenario/planSchema.js';
-import { csv as csvTable } from './studyOutputs.js';
+import { csv as csvTable, studySummary } from './studyOutputs.js';
+import type { ResolvedStudy } from '../engine/resolve.js';
+import type { JobLine } from '../analysis/types.js';
 
 export const PLAN_VERSION = 1;
 
@@ -88,7 +90,7 @@ export function planNotes(x: PlanInputs): string[] {
     let why: string;
     if (equivalent.length) why = `because of the tied evidence above`;
     else if (c.best.wrong / c.best.studies >= 0.2)
-      why = `and ${pct(c.best.wrong / c.best.studies)} of studies there name another model: per-participant fits favour the wrong model often enough to mislead the group analysis (see pool-summary.json)`;
+      why = `and ${pct(c.best.wrong / c.best.studies)} of studies there name another model: per-participant fits favour the wrong model often enough to mislead the group analysis (see the confusion matrix of the pool in summary.json)`;
     else why = `more participants or trials than the grid holds are needed (or a design that separates the models better)`;
     notes.push(`No (N, T) in the grid reaches the target ${pct(c.target)}; the best is ${best}, ${why}.`);
   } else if (c.borderline.length) {
@@ -99,7 +101,8 @@ export function planNotes(x: PlanInputs): string[] {
   return notes;
 }
 
-export function planSummary(x: PlanInputs) {
+/** The `plan` object of summary.json (versioned on its own). */
+export function planObject(x: PlanInputs) {
   const costs: Costs | undefined = x.plan.cost;
   const cellOut = (cell: GridCell) => ({
     participants: cell.participants,
@@ -115,12 +118,6 @@ export function planSummary(x: PlanInputs) {
   });
   const pair = (cell: GridCell) => ({ participants: cell.participants, trials: cell.trials, probability: cell.correct.estimate, ...(costs ? { cost: studyCost(cell, costs) } : {}) });
   return jsonSafe({
-    version: PLAN_VERSION,
-    kind: 'plan',
-    name: x.name,
-    seed: x.seed,
-    provenance: { tool: 'lossprobe', toolVersion: x.toolVersion, node: process.version, scenarioHash: x.scenarioHash },
-    plan: {
       version: PLAN_VERSION,
       models: x.pool.candidates,
       population: x.plan.population,
@@ -151,8 +148,16 @@ export function planSummary(x: PlanInputs) {
       poolUse: x.poolUse,
       notes: planNotes(x),
       caution: PLAN_CAUTION,
-    },
   });
+}
+
+/**
+ * summary.json of a plan folder: the pool's recovery summary (the contract
+ * every run folder keeps, so reports and scripts read it as usual) plus the
+ * `plan` object.
+ */
+export function planSummary(pool: ResolvedStudy, lines: readonly JobLine[], x: PlanInputs) {
+  return { ...studySummary(pool, lines, x.toolVersion), plan: planObject(x) };
 }
 
 export type PlanSummary = ReturnType<typeof planSummary>;
