@@ -32,14 +32,15 @@ export function targetContour(reaches: boolean[][]): Segment[] {
   return out;
 }
 
-export async function planHeatmap(cells: readonly GridCell[], target: number, title: string): Promise<string> {
+/** `label` formats P(correct) for the cells and the target (default: whole percent, one decimal near the target). */
+export async function planHeatmap(cells: readonly GridCell[], target: number, title: string, label: (p: number) => string = (p) => percentNear(p, target)): Promise<string> {
   const ns = [...new Set(cells.map((c) => c.participants))].sort((a, b) => a - b);
   const ts = [...new Set(cells.map((c) => c.trials))].sort((a, b) => a - b);
   const values = cells.map((c) => {
     const x = ts.indexOf(c.trials);
     const y = ns.indexOf(c.participants);
     const p = c.correct.estimate;
-    return { x0: x - 0.5, x1: x + 0.5, y0: y - 0.5, y1: y + 0.5, x, y, p, label: percentNear(p, target), dark: p < 0.6 };
+    return { x0: x - 0.5, x1: x + 0.5, y0: y - 0.5, y1: y + 0.5, x, y, p, label: label(p), dark: p < 0.6 };
   });
   const reaches = ns.map((n) => ts.map((t) => cells.some((c) => c.participants === n && c.trials === t && c.correct.estimate >= target)));
   const contour = targetContour(reaches);
@@ -54,11 +55,8 @@ export async function planHeatmap(cells: readonly GridCell[], target: number, ti
   const yScale = { domain: [-0.5, ns.length - 0.5], nice: false, zero: false };
   const everywhere = reaches.every((r) => r.every(Boolean));
   const nowhere = reaches.every((r) => r.every((v) => !v));
-  const subtitle = nowhere
-    ? `no cell reaches the target ${Math.round(100 * target)}%`
-    : everywhere
-      ? `every cell reaches the target ${Math.round(100 * target)}%`
-      : `red-orange line: boundary of the cells reaching the target ${Math.round(100 * target)}%`;
+  const goal = label(target);
+  const subtitle = nowhere ? `no cell reaches the target ${goal}` : everywhere ? `every cell reaches the target ${goal}` : `red-orange line: boundary of the cells reaching the target ${goal}`;
   const layers: Record<string, unknown>[] = [
     {
       mark: { type: 'rect', stroke: '#ffffff', strokeWidth: 1 },
