@@ -27,7 +27,7 @@ const pct = (x: number) => `${Math.round(100 * x)}%`;
 /** A P(correct) as a percentage: whole numbers, but one decimal within a point of the target, so 79.6% is never shown as a reaching "80%". */
 export function percentNear(x: number | null, target: number): string {
   if (x === null || !Number.isFinite(x)) return '–';
-  return Math.abs(x - target) < 0.01 ? `${(100 * x).toFixed(1)}%` : `${Math.round(100 * x)}%`;
+  return Math.abs(x - target) < 0.01 && x !== target ? `${(100 * x).toFixed(1)}%` : `${Math.round(100 * x)}%`;
 }
 
 export function describeAnalysis(plan: PlanSpec, majority: string): string {
