@@ -15,6 +15,8 @@ import type { PlanPool, PoolParticipant } from '../src/analysis/planPool.js';
 import { proportion, wilsonInterval } from '../src/analysis/wilson.js';
 import { streamFromKey } from '../src/numerics/rng.js';
 import { targetContour } from '../src/report/planHeatmap.js';
+import { percentNear, planNotes } from '../src/report/planSummary.js';
+import type { PlanSpec } from '../src/scenario/planSchema.js';
 
 const FC = { seed: 8080, numRuns: 200 };
 const PXP: GroupAnalysis = { method: 'random-effects', rule: 'protected-exceedance', threshold: 0.95 };
@@ -196,5 +198,28 @@ describe('target contour', () => {
     );
     expect(segs).toHaveLength(2);
     expect(targetContour([[true, true]])).toEqual([]);
+  });
+});
+
+describe('plan notes', () => {
+  const plan: PlanSpec = { participants: [10, 20], population: { a: 0.7, b: 0.3 }, pool: 40, analysis: { method: 'random-effects', evidence: 'bic', rule: 'protected-exceedance', threshold: 0.95 }, target: 0.8, resamples: 1000, poolReplicates: 0 };
+  const pool = tracingPool({ a: 40, b: 40 });
+  const notesFor = (cells: GridCell[]) => planNotes({ name: 'n', seed: 1, scenarioHash: 'h', toolVersion: 't', plan, majority: 'a', pool, poolSize: 40, cells, choice: chooseDesign(cells, plan.target), ties: [], poolUse: poolUse(pool, plan.population, plan.participants) }).join('\n');
+
+  it('say when studies conclude for the wrong model, and when a reaching design is borderline', () => {
+    const misled = { ...cell(20, 100, 0.5), wrong: 400, none: 100 };
+    expect(notesFor([cell(10, 100, 0.3), misled])).toMatch(/No \(N, T\) in the grid reaches the target 80%; the best is 50% .* 40% of studies there name another model/);
+    const edge = { ...cell(20, 100, 0.81), correct: { ...proportion(810, 1000), lower: 0.78 } };
+    expect(notesFor([cell(10, 100, 0.3), edge])).toMatch(/Borderline: N = 20, T = 100/);
+    // A pool of 40 per model is far from 20 × 0.7 draws: no pool warning, and the caution about shared participants is always there.
+    expect(notesFor([cell(10, 100, 0.9)])).not.toMatch(/Warning/);
+    expect(notesFor([cell(10, 100, 0.9)])).toMatch(/Studies share participants/);
+    expect(notesFor([cell(10, 100, 0.9)])).toMatch(/pool's own sampling error is not counted/);
+  });
+
+  it('show a P(correct) within a point of the target with one decimal', () => {
+    expect(percentNear(0.795, 0.8)).toBe('79.5%');
+    expect(percentNear(0.8, 0.8)).toBe('80%');
+    expect(percentNear(0.5, 0.8)).toBe('50%');
   });
 });
