@@ -6,7 +6,7 @@
  * shards of the pool, and bad input (exit 2, nothing written).
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { exists, lossprobe, parseCsv, readJson, readText, removeTemp, tempDir } from './helpers/studyFixture.js';
 
@@ -77,7 +77,7 @@ describe('lossprobe plan', () => {
     expect(again.stderr).toMatch(/--resume/);
   });
 
-  it('fits one shard of the pool without resampling', () => {
+  it('fits one shard of the pool without resampling; joined shards give the unsharded plan', () => {
     const base = join(dir, 'sharded');
     const r = plan(base, ['--shard', '1/2', '--workers', '1']);
     expect(r.status).toBe(0);
@@ -85,6 +85,14 @@ describe('lossprobe plan', () => {
     const folder = join(base, 'shard-1-of-2');
     expect(readText(join(folder, 'jobs.jsonl')).trim().split('\n')).toHaveLength(6);
     expect(exists(join(folder, 'summary.json'))).toBe(false);
+    expect(plan(base, ['--shard', '2/2', '--workers', '1']).status).toBe(0);
+    // Join as the shard message says: both shards' lines in one folder, then plan --resume there.
+    const joined = join(base, 'joined');
+    mkdirSync(joined);
+    writeFileSync(join(joined, 'jobs.jsonl'), readText(join(folder, 'jobs.jsonl')) + readText(join(base, 'shard-2-of-2', 'jobs.jsonl')));
+    writeFileSync(join(joined, 'scenario.json'), readText(join(folder, 'scenario.json')));
+    expect(plan(joined, ['--resume']).status).toBe(0);
+    for (const f of ['summary.json', 'plan.csv']) expect(readText(join(joined, f))).toBe(readText(join(dir, 'one-worker', f)));
   });
 
   it('rejects a bad plan section with exit code 2, naming the field, and writes nothing', () => {
