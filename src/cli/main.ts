@@ -6,6 +6,7 @@ import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
 import { planCommand } from './plan.js';
+import { reportCommand } from './report.js';
 
 const require = createRequire(import.meta.url);
 const { version } = require('../../package.json') as { version: string };
@@ -63,6 +64,11 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => planCommand(file, opts, version));
+  program
+    .command('report')
+    .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')
+    .argument('<folder>', 'run folder (holds summary.json and scenario.json)')
+    .action(async (folder: string) => reportCommand(folder));
   await program.parseAsync(argv);
 }
 

@@ -15,6 +15,7 @@ import { estimateAt, motorReach } from '../observer/estimateCurve.js';
 import { lineChart, type Series } from '../report/charts.js';
 import { writeFolderAtomically } from '../report/writeFolder.js';
 import { UserError } from './userError.js';
+import { previewPage } from '../report/html/preview/previewPage.js';
 
 export interface PreviewOptions {
   prior?: string;
@@ -74,6 +75,15 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
   const source = file ?? 'command line';
   const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
   const s = validate(scenarioSchema, raw, source);
+  const { measurements, estimates, files } = await previewScenario(s, source);
+  const folder = o.out ?? join('results', `${s.name}-preview`);
+  const page = await previewPage({ scenario: { scenario: s }, measurements, estimates, files, identical: identicalPairs(s, estimates) });
+  writeFolderAtomically(folder, { ...files, 'report.html': page.html });
+  return { scenario: s, measurements, estimates, folder };
+}
+
+/** The preview's tables and files (loss shapes, estimate curves, estimates.csv) for a validated scenario; writes nothing. */
+export async function previewScenario(s: Scenario, source: string): Promise<Omit<PreviewResult, 'scenario' | 'folder'> & { files: Record<string, string> }> {
   // The same construction as a recovery study's candidates, at their scenario values.
   const observers = candidatesOf(s, source).map((c) => {
     const obs = observerFromValues(c, c.base);
@@ -129,9 +139,20 @@ export async function runPreview(file: string | undefined, o: PreviewOptions): P
     ...curveFiles,
     'estimates.csv': csv.join('\n') + '\n',
   };
-  const folder = o.out ?? join('results', `${s.name}-preview`);
-  writeFolderAtomically(folder, files);
-  return { scenario: s, measurements, estimates, folder };
+  return { measurements, estimates, files };
+}
+
+/** Pairs of candidate models whose estimates agree (to 1e-6 of the largest) at every tabulated measurement. */
+export function identicalPairs(s: Scenario, estimates: number[][][]): [string, string][] {
+  const pairs: [string, string][] = [];
+  const scale = Math.max(1e-12, ...estimates.flat(2).map(Math.abs));
+  for (let a = 0; a < s.models.length; a++)
+    for (let b = a + 1; b < s.models.length; b++) {
+      let maxDiff = 0;
+      for (let c = 0; c < s.conditions.length; c++) estimates[c][a].forEach((v, i) => (maxDiff = Math.max(maxDiff, Math.abs(v - estimates[c][b][i]))));
+      if (maxDiff < 1e-6 * scale) pairs.push([s.models[a].name, s.models[b].name]);
+    }
+  return pairs;
 }
 
 export function printPreview(r: PreviewResult): void {
@@ -143,17 +164,11 @@ export function printPreview(r: PreviewResult): void {
     console.log(table.toString());
   }
   // Say plainly when candidates agree everywhere: the design then cannot tell them apart.
-  const same: string[] = [];
-  for (let a = 0; a < s.models.length; a++)
-    for (let b = a + 1; b < s.models.length; b++) {
-      let maxDiff = 0;
-      for (let c = 0; c < s.conditions.length; c++) r.estimates[c][a].forEach((v, i) => (maxDiff = Math.max(maxDiff, Math.abs(v - r.estimates[c][b][i]))));
-      const scale = Math.max(1e-12, ...r.estimates.flat(2).map(Math.abs));
-      if (maxDiff < 1e-6 * scale) same.push(`${s.models[a].name} and ${s.models[b].name}`);
-    }
+  const same = identicalPairs(s, r.estimates).map(([a, b]) => `${a} and ${b}`);
   if (same.length) {
     console.log(`\nIdentical estimates under this design at these parameter values: ${same.join('; ')}.`);
     console.log('Distinct families that coincide here cannot be told apart by any number of trials; a family containing another (power contains squared at exponent 2 and absolute at exponent 1) coincides with it at that value and is told apart only where its parameter differs.');
   }
   console.log(`\nFigures and estimates.csv written to ${r.folder}/`);
+  console.log(`Report: ${join(r.folder, 'report.html')}`);
 }

@@ -11,6 +11,8 @@ import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
 import { runStudy } from '../engine/runStudy.js';
 import { confusionCsv, fitsCsv, inversionCsv, parametersCsv, studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { UserError } from './userError.js';
+import { writeReport } from '../report/html/writeReport.js';
+import { formatNumber } from '../report/format.js';
 
 export interface RunFlags {
   observers?: string;
@@ -95,25 +97,26 @@ export function writeStudyOutputs(folder: string, summary: StudySummary, lines: 
   writeAtomically(join(folder, 'inversion.csv'), inversionCsv(summary));
 }
 
-const pct = (x: number | null | undefined) => (x === null || x === undefined ? '–' : `${Math.round(100 * x)}%`);
+const pct = (x: number | null | undefined) => formatNumber(x, 'percent');
+const compact = { style: { head: [], border: [] }, chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' } };
 
-export function printStudy(summary: StudySummary, folder: string): void {
+export function printStudy(summary: StudySummary, folder: string, reportPath?: string): void {
   const s = summary.overall;
   const c = s.confusion;
-  console.log(`\nRecovery study '${summary.name}' (seed ${summary.seed}, ${s.jobs} datasets, criterion ${summary.criterion.toUpperCase()})`);
+  console.log(`\nRecovery study '${summary.name}' (seed ${formatNumber(summary.seed, 'id')}, ${formatNumber(s.jobs, 'count')} datasets, criterion ${summary.criterion.toUpperCase()})`);
   console.log('Rows: generating model. Columns: model chosen (share of that row\'s datasets).');
-  const table = new Table({
-    head: ['generating ↓ / chosen →', ...c.columns, 'undecided', 'failed fit'],
-    style: { head: [], border: [] },
-    chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' },
-  });
-  c.rows.forEach((r, i) => table.push([`${r} (n=${c.n[i]})`, ...c.columns.map((_, j) => pct(c.rate[i][j])), pct(c.undecidedRate[i]), pct(c.failedRate[i])]));
+  const table = new Table({ head: ['generating ↓ / chosen →', ...c.columns, 'undecided', 'failed fit'], ...compact });
+  c.rows.forEach((r, i) => table.push([`${r} (n=${formatNumber(c.n[i], 'count')})`, ...c.columns.map((_, j) => pct(c.rate[i][j])), pct(c.undecidedRate[i]), pct(c.failedRate[i])]));
   console.log(table.toString());
   const a = s.accuracy;
   console.log(`Overall: generating model chosen in ${pct(a.estimate)} of datasets [95% interval ${pct(a.lower)}–${pct(a.upper)}]; chance ${pct(s.chance)}.`);
   for (const v of s.verdicts) console.log(`  ${v.text}`);
+  const rec = new Table({ head: ['parameter recovery', 'parameter', 'r', 'RMSE', 'coverage'], ...compact });
+  for (const m of s.recovery) for (const [k, p] of m.parameters.entries()) rec.push([k === 0 ? m.generating : '', p.name, formatNumber(p.pearson, 'correlation'), formatNumber(p.rmse, 'value'), pct(p.coverage.estimate)]);
+  if (rec.length) console.log(rec.toString());
   console.log('\nA simulation holds only under its assumptions; it complements, not replaces, a pilot study and the advice of your ethics board and statistician.');
-  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
+  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, fits.csv, parameters.csv, confusion.csv, inversion.csv, figures/)`);
+  if (reportPath) console.log(`Report: ${reportPath}`);
 }
 
 export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
@@ -141,6 +144,15 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
   );
+  // The study's results are written; a report that fails must not turn a finished run into an error.
+  let reportPath: string | undefined;
+  try {
+    const report = await writeReport(folder);
+    for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
+    reportPath = report.path;
+  } catch (e) {
+    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
+  }
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printStudy(summary, folder);
+  else printStudy(summary, folder, reportPath);
 }

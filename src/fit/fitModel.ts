@@ -15,7 +15,7 @@ import { bfgs, nelderMead, type MinimizeResult } from '../numerics/optimize.js';
 import { invertSymmetric, numericalHessian } from '../numerics/hessian.js';
 import { latinHypercube } from '../numerics/latinHypercube.js';
 import { streamFromKey } from '../numerics/rng.js';
-import { logLikelihood } from '../observer/responseDensity.js';
+import { lapseFreeTerms, logLikelihoodFromTerms, type LapseFreeTerms } from '../observer/responseDensity.js';
 import type { Dataset } from '../observer/observer.js';
 import { observerFor, type CandidateModel } from './candidate.js';
 import { jacobian, toFree, toParameter } from './transforms.js';
@@ -75,11 +75,31 @@ export interface FitResult {
 const AT_BOUND_Z = 5;
 const FLAT_RATIO = 1e-8;
 
+/**
+ * Lapse-free likelihood terms of the last few parameter vectors, keyed by every
+ * free value except the lapse rate: gradient and Hessian probes along the lapse
+ * rate then cost a sum over trials instead of a new estimate curve. The values
+ * are exactly those a fresh evaluation would give.
+ */
+const TERM_CACHE_SIZE = 4;
+/** One-sided gradient probes while the gradient exceeds this many tolerances (see bfgs). */
+const FORWARD_DIFFERENCE_FACTOR = 30;
+
 export function negLogLikObjective(model: CandidateModel, data: Dataset, failures: string[]): (z: readonly number[]) => number {
+  const lapseIndex = model.free.findIndex((p) => p.name === 'lapseRate');
+  const cache: { key: string; terms: LapseFreeTerms }[] = [];
   return (z) => {
     try {
       const theta = model.free.map((p, i) => toParameter(p, z[i]));
-      const ll = logLikelihood(observerFor(model, theta), data);
+      const key = theta.map((t, i) => (i === lapseIndex ? '' : String(t))).join(',');
+      let terms = cache.find((e) => e.key === key)?.terms;
+      const obs = observerFor(model, theta);
+      if (!terms) {
+        terms = lapseFreeTerms(obs, data);
+        cache.push({ key, terms });
+        if (cache.length > TERM_CACHE_SIZE) cache.shift();
+      }
+      const ll = logLikelihoodFromTerms(terms, obs.lapseRate);
       if (!Number.isFinite(ll)) {
         if (failures.length < 5) failures.push(`non-finite log-likelihood at ${theta.map((t) => t.toPrecision(4)).join(', ')}`);
         return Infinity;
@@ -159,7 +179,7 @@ export function fitModel(model: CandidateModel, data: Dataset, options: FitOptio
       // likelihood (≲1e-5) cannot dominate the difference quotient; the gradient
       // tolerance (2e-5·|log L|) sits above that roughness, and at the Hessian's
       // curvature it moves the parameters by far less than one standard error.
-      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 2e-5, gradientStep: 1e-3 });
+      let r = bfgs(f, z0, { maxEvaluations: budget, initialStep: 1, gradientTolerance: 2e-5, gradientStep: 1e-3, forwardDifferenceFactor: FORWARD_DIFFERENCE_FACTOR });
       if (!r.converged && r.evaluations < budget && Number.isFinite(r.value)) {
         const nm = nelderMead(f, r.x, { maxEvaluations: budget - r.evaluations, initialStep: 0.3, restart: false });
         r = { ...nm, evaluations: r.evaluations + nm.evaluations, reason: `${r.reason}; then ${nm.reason}` };

@@ -42,6 +42,14 @@ export interface MinimizeOptions {
    * step keeps those from dominating the gradient.
    */
   gradientStep?: number;
+  /**
+   * BFGS: while the gradient's max-norm exceeds this many gradient tolerances,
+   * use one-sided differences (n probes instead of 2n). Their O(h) bias is
+   * nearly the same at neighbouring points and largely cancels in the BFGS
+   * update; near the optimum, where the convergence test needs an accurate
+   * gradient, central differences take over for good. Default 0: always central.
+   */
+  forwardDifferenceFactor?: number;
 }
 
 export interface MinimizeResult {
@@ -266,12 +274,28 @@ interface Gradient {
  * epsilon, balancing truncation against roundoff. Next to a non-finite wall the
  * one-sided difference from the finite side is used instead.
  */
-function numericalGradient(obj: BudgetedObjective, x: readonly number[], fx: number, step = 1e-5): Gradient {
+function numericalGradient(obj: BudgetedObjective, x: readonly number[], fx: number, step = 1e-5, forward = false): Gradient {
   const n = x.length;
   const g = new Array<number>(n).fill(0);
   let reliable = true;
   for (let i = 0; i < n; i++) {
     const xi = x[i];
+    if (forward) {
+      const xp = x.slice();
+      xp[i] = xi + step * Math.max(1, Math.abs(xi));
+      const hp = xp[i] - xi;
+      const fp = obj.evaluate(xp);
+      if (fp < Infinity) {
+        g[i] = (fp - fx) / hp;
+        continue;
+      }
+      const xm = x.slice();
+      xm[i] = xi - hp;
+      const fm = obj.evaluate(xm);
+      if (fm < Infinity) g[i] = (fx - fm) / (xi - xm[i]);
+      else reliable = false;
+      continue;
+    }
     const xp = x.slice();
     const xm = x.slice();
     xp[i] = xi + step * Math.max(1, Math.abs(xi));
@@ -308,13 +332,22 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
   const fTol = positiveOr(options.fTolerance, 1e-10, 'fTolerance');
   const gTol = positiveOr(options.gradientTolerance, 1e-6, 'gradientTolerance');
   const gStep = positiveOr(options.gradientStep, 1e-5, 'gradientStep');
+  const forwardFactor = positiveOr(options.forwardDifferenceFactor, 0, 'forwardDifferenceFactor');
 
   let x = x0.slice();
   let fx = obj.evaluate(x);
   if (fx === Infinity) return obj.result(false, NON_FINITE_START);
   if (n === 0) return obj.result(true, 'zero-dimensional problem');
 
-  let { g, reliable } = numericalGradient(obj, x, fx, gStep);
+  let forward = forwardFactor > 0;
+  let { g, reliable } = numericalGradient(obj, x, fx, gStep, forward);
+  // Once the gradient is small, central differences from then on (and now).
+  const settle = (at: number[], fAt: number, grad: Gradient): Gradient => {
+    if (!forward || maxAbs(grad.g) > forwardFactor * gTol * Math.max(1, Math.abs(fAt))) return grad;
+    forward = false;
+    return numericalGradient(obj, at, fAt, gStep);
+  };
+  ({ g, reliable } = settle(x, fx, { g, reliable }));
   let H = identity(n);
   // While H is the raw identity its step has the gradient's units, not x's, so
   // the first trial step is capped and the first update rescales H (N&W 6.20).
@@ -373,7 +406,7 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
     }
 
     const s = accepted.x.map((v, i) => v - x[i]);
-    const next = numericalGradient(obj, accepted.x, accepted.f, gStep);
+    const next = settle(accepted.x, accepted.f, numericalGradient(obj, accepted.x, accepted.f, gStep, forward));
     if (obj.starved) return obj.result(false, BUDGET);
     const y = next.g.map((v, i) => v - g[i]);
     const ys = dot(y, s);

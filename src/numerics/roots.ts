@@ -20,9 +20,10 @@ export function bisectMonotone(f: (x: number) => number, lo: number, hi: number,
 }
 
 /** Brent's root finder on a bracket [a, b] with f(a)·f(b) ≤ 0. */
-export function brentRoot(f: (x: number) => number, a: number, b: number, tol = 1e-13, maxIter = 200): number {
-  let fa = f(a);
-  let fb = f(b);
+export function brentRoot(f: (x: number) => number, a: number, b: number, tol = 1e-13, maxIter = 200, known?: { fa: number; fb: number }): number {
+  // Callers that bracketed the root already hold f(a) and f(b).
+  let fa = known ? known.fa : f(a);
+  let fb = known ? known.fb : f(b);
   if (fa === 0) return a;
   if (fb === 0) return b;
   let c = a;

@@ -15,7 +15,7 @@ import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
 import { segmentIndex } from '../numerics/search.js';
 
 /** Grid step in v (noise sds). */
-export const CURVE_STEP = 0.5;
+export const CURVE_STEP = 1;
 
 /** How far beyond the prior's support a motor-aware observer's convolved posterior reaches (9 motor sds). */
 export function motorReach(obs: Observer): number {

@@ -19,7 +19,11 @@ const houseConfig = {
 };
 
 export async function renderSvg(spec: Record<string, unknown>): Promise<string> {
-  const full = { $schema: 'https://vega.github.io/schema/vega-lite/v5.json', config: houseConfig, ...spec };
+  // A figure may refine the house style (e.g. no grid in a matrix); its config is merged key by key.
+  const own = (spec.config ?? {}) as Record<string, Record<string, unknown>>;
+  const config: Record<string, unknown> = { ...houseConfig };
+  for (const [k, v] of Object.entries(own)) config[k] = { ...((houseConfig as Record<string, unknown>)[k] as object), ...v };
+  const full = { $schema: 'https://vega.github.io/schema/vega-lite/v5.json', ...spec, config };
   const compiled = vl.compile(full as unknown as vl.TopLevelSpec).spec;
   const view = new vega.View(vega.parse(compiled), { renderer: 'none' });
   const svg = await view.toSVG();
@@ -43,8 +47,9 @@ export async function lineChart(opts: { title: string; xTitle: string; yTitle: s
       encoding: {
         x: { field: 'x', type: 'quantitative', title: opts.xTitle, scale: { zero: false } },
         y: { field: 'y', type: 'quantitative', title: opts.yTitle, scale: { zero: false } },
-        color: { field: 'series', type: 'nominal', title: null, sort: opts.series.map((s) => s.name) },
-        strokeDash: { field: 'series', type: 'nominal', legend: null, sort: opts.series.map((s) => s.name) },
+        // Colour and dash share field, title and domain, so the one legend shows both (readable in grey print too).
+        color: { field: 'series', type: 'nominal', title: null, scale: { domain: opts.series.map((s) => s.name) } },
+        strokeDash: { field: 'series', type: 'nominal', title: null, scale: { domain: opts.series.map((s) => s.name) } },
       },
     },
   ];

@@ -28,7 +28,10 @@ const quick = process.argv.includes('--quick');
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
 function timeIt(fn: () => void, reps: number): number {
-  for (let i = 0; i < Math.min(5, reps); i++) fn();
+  // Warm up well past V8's optimisation of the hot loops: with 5 warm-up calls
+  // the first family measured (squared) still paid for compilation (measured 5–7 ms
+  // against ~1 ms once warm).
+  for (let i = 0; i < Math.min(20, reps); i++) fn();
   const ts: number[] = [];
   for (let i = 0; i < reps; i++) {
     const t0 = performance.now();

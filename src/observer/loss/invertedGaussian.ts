@@ -7,7 +7,7 @@
  */
 import { z } from 'zod';
 import { gaussHermite, gaussLegendre } from '../../numerics/gaussRules.js';
-import { brentMinimize } from '../../numerics/roots.js';
+import { brentMinimize, brentRoot } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
 import { maximiseOverNodes } from './hitOrMiss.js';
 import type { LossFunction, LossParameter } from './types.js';
@@ -21,8 +21,18 @@ export const invertedGaussianParameters: LossParameter[] = [
   { name: 'width', description: 'width ε of the bounded loss', min: 1e-3, max: 1e3, transform: 'log', typical: 1 },
 ];
 
-/** ∫ f(x) exp(−(c−x)²/(2ε²)) dx up to a constant. */
+/**
+ * Set by smoothedPosterior: the mean offset of the kernel-weighted posterior,
+ * ∫ f(x) k(c−x) (x − c) dx / ∫ f(x) k(c−x) dx, which is the smoothed posterior's
+ * log-derivative times ε². It is zero at the maximum and decreasing in c when
+ * the smoothed posterior is log-concave, so a root finder on it needs a handful
+ * of sums where a minimiser of the value needs dozens (and stalls near √ε_mach).
+ */
+let kernelOffset = NaN;
+
+/** ∫ f(x) exp(−(c−x)²/(2ε²)) dx up to a constant (and kernelOffset as a by-product). */
 function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow: boolean, ref: number): number {
+  kernelOffset = NaN;
   if (narrow) {
     // Kernel narrower than the panels: integrate the kernel by Gauss–Hermite
     // against the exact posterior density (or the panel polynomials after a
@@ -38,6 +48,7 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     const sLo = post.warp.fromU(post.exactAvailable ? post.supportU[0] : post.panelStart[post.firstPanel]);
     const sHi = post.warp.fromU(post.exactAvailable ? post.supportU[1] : post.panelStart[post.lastPanel] + 2 * post.panelHalf[post.lastPanel]);
     const reach = 8 * width;
+    let acc1 = 0;
     if (c - reach < sLo || c + reach > sHi) {
       const lo = Math.max(sLo, c - reach);
       const hi = Math.min(sHi, c + reach);
@@ -51,26 +62,37 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
           const x = mid + half * gl.nodes[k];
           const z = (c - x) / width;
           const dens = post.exactAvailable ? Math.exp(post.exactLogDensity(x) - ref) : post.densityX(x);
-          acc += gl.weights[k] * dens * Math.exp(-0.5 * z * z);
+          const t = gl.weights[k] * dens * Math.exp(-0.5 * z * z);
+          acc += t;
+          acc1 += t * (x - c);
         }
       }
+      kernelOffset = acc1 / acc;
       return acc * half;
     }
-    if (post.exactAvailable) {
-      for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * Math.exp(post.exactLogDensity(c + s * gh.nodes[k]) - ref);
-    } else {
-      for (let k = 0; k < gh.nodes.length; k++) acc += gh.weights[k] * post.densityX(c + s * gh.nodes[k]);
+    for (let k = 0; k < gh.nodes.length; k++) {
+      const x = c + s * gh.nodes[k];
+      const t = gh.weights[k] * (post.exactAvailable ? Math.exp(post.exactLogDensity(x) - ref) : post.densityX(x));
+      acc += t;
+      acc1 += t * (x - c);
     }
+    kernelOffset = acc1 / acc;
     return acc * s;
   }
   const inv = 1 / (2 * width * width);
   const cut = 40 * width * width;
   let acc = 0;
+  let acc1 = 0;
   for (let j = post.first; j <= post.last; j++) {
-    const d = c - post.x[j];
+    const d = post.x[j] - c;
     const d2 = d * d;
-    if (d2 < cut) acc += post.mass[j] * Math.exp(-d2 * inv);
+    if (d2 < cut) {
+      const t = post.mass[j] * Math.exp(-d2 * inv);
+      acc += t;
+      acc1 += t * d;
+    }
   }
+  kernelOffset = acc1 / acc;
   return acc;
 }
 
@@ -96,6 +118,10 @@ export function invertedGaussianLoss(width: number): LossFunction {
         const mean = post.mean();
         const lo = Math.min(mean, post.x[Math.max(post.first, jMax - 1)]);
         const hi = Math.max(mean, post.x[Math.min(post.last, jMax + 1)]);
+        const offset = (c: number) => (objective(c), kernelOffset);
+        const fa = offset(lo);
+        const fb = offset(hi);
+        if (fa >= 0 && fb <= 0) return brentRoot(offset, lo, hi, 1e-13 * Math.max(1, Math.abs(mean)), 200, { fa, fb });
         return brentMinimize((c) => -objective(c), lo, hi, 1e-12).x;
       }
       return maximiseOverNodes(post, objective, 3);

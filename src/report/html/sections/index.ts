@@ -1,0 +1,19 @@
+/**
+ * The report's sections, in page order. A section appears when its
+ * `applies` finds what it needs in the run folder; to add one, write a file
+ * beside these and list it here (see DEVELOPERS.md).
+ */
+import type { Section } from '../section.js';
+import { header } from './header.js';
+import { glance } from './glance.js';
+import { cautions } from './cautions.js';
+import { modelRecovery } from './modelRecovery.js';
+import { trialSweep } from './trialSweep.js';
+import { parameterRecovery } from './parameterRecovery.js';
+import { tradeoffs } from './tradeoffs.js';
+import { designVariants } from './designVariants.js';
+import { observerPreview } from './observerPreview.js';
+import { methods } from './methods.js';
+import { about } from './about.js';
+
+export const SECTIONS: readonly Section[] = [header, glance, cautions, modelRecovery, trialSweep, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
