@@ -9,6 +9,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { exists, lossprobe, parseCsv, readJson, readText, removeTemp, tempDir } from './helpers/studyFixture.js';
+import { at, embeddedData, numberSpans, reportHtml, svgTexts, untracedText } from './helpers/reportPage.js';
+import { formatNumber, type NumberStyle } from '../src/report/format.js';
 
 const FIXTURE = join(process.cwd(), 'test', 'fixtures', 'plan-gaussian.yaml');
 const SMALL = ['--participants', '4,8', '--trials', '20,40', '--pool', '6', '--resamples', '50', '--pool-replicates', '3', '--quiet'];
@@ -55,6 +57,24 @@ describe('lossprobe plan', () => {
     expect(readText(join(two, 'figures', 'plan-heatmap.svg'))).toMatch(/^<svg/);
     for (const f of ['fits.csv', 'parameters.csv', 'confusion.csv', 'inversion.csv']) expect(exists(join(two, f))).toBe(true);
     expect(readText(join(two, 'jobs.jsonl')).trim().split('\n')).toHaveLength(12);
+  });
+
+  it('writes the HTML report with the plan section: every number traceable to summary.json, the heatmap among the figures', () => {
+    const html = reportHtml(two);
+    expect(html).toContain('<section id="group-plan">');
+    expect(html).not.toContain('section-failed');
+    expect(html).toMatch(/a resample of simulated participants, not a fresh simulation/);
+    const data = embeddedData(html);
+    expect(data.summary).toEqual(readJson(join(two, 'summary.json')));
+    // As the report's own tests require (test/reportHtml.test.ts): each number span is its raw value through the formatter…
+    const spans = numberSpans(html);
+    expect(spans.filter((s) => s.path[1] === 'plan').length).toBeGreaterThan(10);
+    for (const s of spans) expect(s.text, JSON.stringify(s.path)).toBe(formatNumber(at(data, s.path) as number | null, s.style as NumberStyle));
+    // …and no digit reaches the reader any other way (the report's fixed wording '95%' and 'SHA-256' excepted).
+    expect(untracedText(html).split('95%').join(' ').split('SHA-256').join(' ').match(/.{0,40}\d.{0,40}/g) ?? []).toEqual([]);
+    const heatmap = readText(join(two, 'figures', 'plan-heatmap.svg'));
+    const labels = svgTexts(heatmap);
+    for (const c of data.summary.plan.grid) expect(labels).toContain(formatNumber(c.correct.estimate, 'percent'));
   });
 
   it('gives the same files with one worker', () => {

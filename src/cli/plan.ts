@@ -19,6 +19,7 @@ import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
 import { openRunFolder, parseTrials, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
+import { writeReport } from '../report/html/writeReport.js';
 
 /** The flags of `run` (except --observers: the pool size is --pool), plus the plan's own. */
 export interface PlanFlags extends Omit<RunFlags, 'observers'> {
@@ -58,7 +59,7 @@ function writeOutputs(folder: string, files: Record<string, string>): void {
 
 const pct = (x: number | null) => (x === null || !Number.isFinite(x) ? '–' : `${Math.round(100 * x)}%`);
 
-export function printPlan(x: PlanInputs, folder: string): void {
+export function printPlan(x: PlanInputs, folder: string, reportPath?: string): void {
   const ns = [...new Set(x.cells.map((c) => c.participants))];
   const ts = x.pool.trials;
   console.log(`\nGroup plan '${x.name}' (seed ${x.seed}, ${x.plan.resamples} simulated studies per cell)`);
@@ -84,6 +85,7 @@ export function printPlan(x: PlanInputs, folder: string): void {
   for (const n of planNotes(x)) console.log(`\n${n}`);
   console.log(`\n${PLAN_CAUTION}`);
   console.log(`Run folder: ${folder}/ (summary.json, plan.csv, figures/plan-heatmap.svg, jobs.jsonl and the pool's fits.csv, parameters.csv, confusion.csv, inversion.csv)`);
+  if (reportPath) console.log(`Report: ${reportPath}`);
 }
 
 export async function planCommand(file: string, flags: PlanFlags, toolVersion: string): Promise<void> {
@@ -130,6 +132,15 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     'plan.csv': planCsv(inputs),
     'figures/plan-heatmap.svg': await planHeatmap(inputs.cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
   });
+  // The plan's results are written; a report that fails must not turn a finished plan into an error.
+  let reportPath: string | undefined;
+  try {
+    const report = await writeReport(folder);
+    for (const problem of report.problems) process.stderr.write(`lossprobe: report: ${problem}\n`);
+    reportPath = report.path;
+  } catch (e) {
+    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
+  }
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
-  else printPlan(inputs, folder);
+  else printPlan(inputs, folder, reportPath);
 }

@@ -15,5 +15,6 @@ import { designVariants } from './designVariants.js';
 import { observerPreview } from './observerPreview.js';
 import { methods } from './methods.js';
 import { about } from './about.js';
+import { groupPlan } from './groupPlan.js';
 
-export const SECTIONS: readonly Section[] = [header, glance, cautions, modelRecovery, trialSweep, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
+export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
