@@ -17,9 +17,8 @@ import { runStudy } from '../engine/runStudy.js';
 import { parseShard, shardJobs } from '../engine/shard.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
-import { openRunFolder, parseTrials, writeStudyOutputs, type RunFlags } from './run.js';
+import { openRunFolder, parseTrials, reportOrWarn, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
-import { writeReport } from '../report/html/writeReport.js';
 
 /** The flags of `run` (except --observers: the pool size is --pool), plus the plan's own. */
 export interface PlanFlags extends Omit<RunFlags, 'observers'> {
@@ -132,15 +131,7 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     'plan.csv': planCsv(inputs),
     'figures/plan-heatmap.svg': await planHeatmap(inputs.cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
   });
-  // The plan's results are written; a report that fails must not turn a finished plan into an error.
-  let reportPath: string | undefined;
-  try {
-    const report = await writeReport(folder);
-    for (const problem of report.problems) process.stderr.write(`lossprobe: report: ${problem}\n`);
-    reportPath = report.path;
-  } catch (e) {
-    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
-  }
+  const reportPath = await reportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printPlan(inputs, folder, reportPath);
 }

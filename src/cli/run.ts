@@ -119,6 +119,22 @@ export function printStudy(summary: StudySummary, folder: string, reportPath?: s
   if (reportPath) console.log(`Report: ${reportPath}`);
 }
 
+/**
+ * The last step of a command that wrote a run folder: its report. The results
+ * are already written, so a report that fails must not turn a finished run
+ * into an error: it is a warning with the command to retry.
+ */
+export async function reportOrWarn(folder: string): Promise<string | undefined> {
+  try {
+    const report = await writeReport(folder);
+    for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
+    return report.path;
+  } catch (e) {
+    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
+    return undefined;
+  }
+}
+
 export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
   const study = studyFromFlags(file, flags);
   const folder = flags.out ?? join('results', study.scenario.name);
@@ -144,15 +160,7 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
   );
-  // The study's results are written; a report that fails must not turn a finished run into an error.
-  let reportPath: string | undefined;
-  try {
-    const report = await writeReport(folder);
-    for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
-    reportPath = report.path;
-  } catch (e) {
-    process.stderr.write(`lossprobe: the report could not be written (${(e as Error).message}); the run folder is complete, retry with: lossprobe report ${folder}\n`);
-  }
+  const reportPath = await reportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printStudy(summary, folder, reportPath);
 }
