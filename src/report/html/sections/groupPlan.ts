@@ -62,8 +62,8 @@ export const groupPlan: Section = {
         if (k < 0) return '<td></td>';
         const c = [...P, 'grid', k];
         const interval = plan.grid[k].correctWithPoolError ? [...c, 'correctWithPoolError'] : [...c, 'correct'];
-        const reach = plan.grid[k].reachesTarget ? ' class="reach"' : '';
-        return `<td${reach}>${ctx.num([...c, 'correct', 'estimate'], 'percent')} <span class="ci">${ctx.num([...interval, 'lower'], 'percent')}–${ctx.num([...interval, 'upper'], 'percent')}</span></td>`;
+        const reach = plan.grid[k].reachesTarget ? ' <span class="reach" title="reaches the target">✓</span>' : '';
+        return `<td>${ctx.num([...c, 'correct', 'estimate'], 'percent')} <span class="ci">${ctx.num([...interval, 'lower'], 'percent')}–${ctx.num([...interval, 'upper'], 'percent')}</span>${reach}</td>`;
       });
       return `<tr><th>${ctx.num([...P, 'participants', i], 'count')}</th>${cells.join('')}</tr>`;
     });
@@ -95,7 +95,7 @@ export const groupPlan: Section = {
       ? `<li>With ${warnedN.map((k) => ctx.num([...P, 'poolUse', k, 'participants'], 'count')).join(', ')} participants a study draws on average at least half of some model's pool; P(correct) there is likely optimistic. Enlarge the pool.</li>`
       : '';
     return `<p class="how">The group analysis: ${analysisWords(ctx, plan)}. Each simulated study recruits its participants independently from the population and resamples each one, with replacement, from a pool of ${ctx.num(['scenario', 'scenario', 'generate', 'observers'], 'count')} simulated participants per model fitted at every trial count. The rest of this page describes that pool.</p>
-<p>${verdict}</p>
+<p>${verdict} In the table, ✓ marks the cells that reach it; the grey range is the 95% interval.</p>
 <div class="table-wrap"><table class="data"><thead><tr><th>participants</th>${head}</tr></thead><tbody>
 ${rows.join('\n')}
 </tbody></table></div>
