@@ -33,3 +33,6 @@ export { simulateResponses } from './observer/sampler.js';
 export { closedFormEstimate, evaluateClosedForm, gaussianPosterior } from './observer/closedForm.js';
 export { streamFromKey, type RandomStream } from './numerics/rng.js';
 export { nelderMead, bfgs } from './numerics/optimize.js';
+export { analyticPreview, type AnalyticPreview } from './design/analyticPreview.js';
+export { sizing, type Sizing } from './analysis/sizing.js';
+export { confidenceSequence } from './analysis/confidenceSequence.js';

@@ -6,6 +6,7 @@ import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
 import { planCommand } from './plan.js';
+import { sizeCommand } from './size.js';
 import { reportCommand } from './report.js';
 
 const require = createRequire(import.meta.url);
@@ -31,6 +32,8 @@ async function main(argv: string[]): Promise<void> {
     .option('--scale <lower,upper>', 'response scale ends, e.g. 0,100')
     .option('--motor-sd <sd>', 'motor noise sd')
     .option('--out <folder>', 'output folder (default results/<name>-preview)')
+    .option('--target <p>', 'accuracy the predicted trial counts aim for (default 0.8)')
+    .option('--no-analytic', 'skip distinguishability, Fisher information and predicted accuracy')
     .action(async (file: string | undefined, opts) => printPreview(await runPreview(file, opts)));
   program
     .command('run')
@@ -64,6 +67,26 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => planCommand(file, opts, version));
+  program
+    .command('size')
+    .description('trial-count sweep: how many trials each generating model needs to be recovered, with adaptive effort')
+    .argument('<scenario>', 'scenario file (YAML or JSON); its variants are sized too')
+    .option('--trials <list>', 'trial counts: a list 60,120,240 or a range 60:480:60 (default: the scenario\'s list)')
+    .option('--target <p>', 'accuracy (or parameter success share) to reach, default 0.8')
+    .option('--observers <n>', 'initial synthetic observers per point (default: the scenario\'s generate.observers)')
+    .option('--max-observers <n>', 'cap on observers per point (default 4 × initial)')
+    .option('--batch <n>', 'observers added to an undecided point per round (default: the initial number)')
+    .option('--parameter <name>', 'also size for a parameter, e.g. loss.exponent (with --exclude or --width)')
+    .option('--exclude <value>', 'success: the parameter\'s 95% interval excludes this value')
+    .option('--width <w>', 'success: the parameter\'s 95% interval is at most this wide')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--workers <w>', 'worker threads (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>-size)')
+    .option('--resume', 'continue an interrupted sweep')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => sizeCommand(file, opts, version));
   program
     .command('report')
     .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')

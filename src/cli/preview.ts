@@ -6,7 +6,10 @@
 import Table from 'cli-table3';
 import { join } from 'node:path';
 import { scenarioSchema, type Scenario } from '../scenario/schema.js';
-import { readStructuredFile, validate } from '../scenario/load.js';
+import { validate } from '../scenario/load.js';
+import { readScenario } from '../scenario/variants.js';
+import { analyticFiles, previewDesigns, printAnalytic } from './previewAnalytic.js';
+import type { DesignPreview } from '../report/previewOutputs.js';
 import { candidatesOf } from '../engine/resolve.js';
 import { observerFromValues } from '../fit/candidate.js';
 import { observerProblems } from '../observer/observer.js';
@@ -25,6 +28,9 @@ export interface PreviewOptions {
   motorSd?: string;
   out?: string;
   json?: boolean;
+  target?: string;
+  /** Skip the analytic part (distinguishability, Fisher information, predicted accuracy). */
+  analytic?: boolean;
 }
 
 /** "family:key=value,key=value" → { family, key: value } (numbers where numeric). */
@@ -63,6 +69,8 @@ export interface PreviewResult {
   /** estimates[condition][model][measurement] */
   estimates: number[][][];
   folder: string;
+  /** Analytic preview of the base design and of each variant. */
+  designs: DesignPreview[];
 }
 
 function pretty(x: number): string {
@@ -73,17 +81,20 @@ function pretty(x: number): string {
 
 export async function runPreview(file: string | undefined, o: PreviewOptions): Promise<PreviewResult> {
   const source = file ?? 'command line';
-  const raw = file ? readStructuredFile(file) : scenarioFromFlags(o);
-  const s = validate(scenarioSchema, raw, source);
+  const s = file ? readScenario(file) : validate(scenarioSchema, scenarioFromFlags(o), source);
+  const target = o.target === undefined ? 0.8 : Number(o.target);
+  if (!(target > 0 && target < 1)) throw new UserError(`--target expects a proportion between 0 and 1 (got '${o.target}')`);
   const { measurements, estimates, files } = await previewScenario(s, source);
+  const designs = o.analytic === false ? [] : previewDesigns(s, source, target);
+  const analytic = await analyticFiles(designs);
   const folder = o.out ?? join('results', `${s.name}-preview`);
-  const page = await previewPage({ scenario: { scenario: s }, measurements, estimates, files, identical: identicalPairs(s, estimates) });
-  writeFolderAtomically(folder, { ...files, 'report.html': page.html });
-  return { scenario: s, measurements, estimates, folder };
+  const page = await previewPage({ scenario: { scenario: s }, measurements, estimates, files, identical: identicalPairs(s, estimates), designs });
+  writeFolderAtomically(folder, { ...files, ...analytic, 'report.html': page.html });
+  return { scenario: s, measurements, estimates, folder, designs };
 }
 
 /** The preview's tables and files (loss shapes, estimate curves, estimates.csv) for a validated scenario; writes nothing. */
-export async function previewScenario(s: Scenario, source: string): Promise<Omit<PreviewResult, 'scenario' | 'folder'> & { files: Record<string, string> }> {
+export async function previewScenario(s: Scenario, source: string): Promise<Omit<PreviewResult, 'scenario' | 'folder' | 'designs'> & { files: Record<string, string> }> {
   // The same construction as a recovery study's candidates, at their scenario values.
   const observers = candidatesOf(s, source).map((c) => {
     const obs = observerFromValues(c, c.base);
@@ -169,6 +180,7 @@ export function printPreview(r: PreviewResult): void {
     console.log(`\nIdentical estimates under this design at these parameter values: ${same.join('; ')}.`);
     console.log('Distinct families that coincide here cannot be told apart by any number of trials; a family containing another (power contains squared at exponent 2 and absolute at exponent 1) coincides with it at that value and is told apart only where its parameter differs.');
   }
-  console.log(`\nFigures and estimates.csv written to ${r.folder}/`);
+  printAnalytic(r.designs);
+  console.log(`\nFigures, estimates.csv${r.designs.length ? ', preview.json and the analytic CSV files' : ''} written to ${r.folder}/`);
   console.log(`Report: ${join(r.folder, 'report.html')}`);
 }

@@ -26,7 +26,7 @@ export interface RunFlags {
   quiet?: boolean;
 }
 
-function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
+export function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
   if (!Number.isInteger(n) || n < 1 || n > max) throw new UserError(`--${flag} expects a whole number from 1 to ${max} (got '${v}')`);
@@ -72,6 +72,14 @@ export function openRunFolder(folder: string, study: ResolvedStudy, resume: bool
   }
 }
 
+/** For --overwrite: delete the folder, but only if it is recognisably a run folder. */
+export function removeRunFolder(folder: string): void {
+  if (!existsSync(folder)) return;
+  const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
+  if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
+  rmSync(folder, { recursive: true, force: true });
+}
+
 /** The {hash, scenario} record of a run folder, or null when absent or unreadable. */
 function runFolderScenario(folder: string): { hash?: string } | null {
   try {
@@ -83,7 +91,7 @@ function runFolderScenario(folder: string): { hash?: string } | null {
 }
 
 /** Write to a temporary name and rename, so a file is never seen half-written. */
-function writeAtomically(path: string, text: string): void {
+export function writeAtomically(path: string, text: string): void {
   const tmp = `${path}.partial-${process.pid}`;
   writeFileSync(tmp, text);
   renameSync(tmp, path);
@@ -141,12 +149,7 @@ export async function runCommand(file: string, flags: RunFlags, toolVersion: str
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
   const workers = positiveInt('workers', flags.workers, 256);
-  if (flags.overwrite && existsSync(folder)) {
-    // Only ever delete what is recognisably a run folder.
-    const isRun = existsSync(join(folder, 'jobs.jsonl')) || runFolderScenario(folder) !== null || (statSync(folder).isDirectory() && readdirSync(folder).length === 0);
-    if (!isRun) throw new UserError(`--overwrite refuses to delete ${folder}: it is not a run folder (no scenario.json or jobs.jsonl)`);
-    rmSync(folder, { recursive: true, force: true });
-  }
+  if (flags.overwrite) removeRunFolder(folder);
   openRunFolder(folder, study, flags.resume ?? false);
   const started = Date.now();
   const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });

@@ -5,10 +5,8 @@
  * observer validity at the scenario's own values).
  */
 import { createHash } from 'node:crypto';
-import { dirname, resolve } from 'node:path';
-import { readTrialList } from '../scenario/trialList.js';
-import { readStructuredFile, validate } from '../scenario/load.js';
-import { scenarioSchema, type Scenario } from '../scenario/schema.js';
+import { readScenario } from '../scenario/variants.js';
+import type { Scenario } from '../scenario/schema.js';
 import { defineCandidate, observerFromValues, type CandidateModel } from '../fit/candidate.js';
 import { observerProblems } from '../observer/observer.js';
 import { createDistribution } from '../observer/distributions/registry.js';
@@ -87,16 +85,13 @@ export function resolveStudy(s: Scenario, source: string): ResolvedStudy {
 }
 
 export function loadStudy(file: string, overrides: { observers?: number; trials?: number[]; seed?: number } = {}): ResolvedStudy {
-  const raw = readStructuredFile(file) as Record<string, unknown>;
-  // A trial-list file is read here and inlined, so the scenario hash covers its
-  // contents and workers need no file access.
-  if (raw && typeof raw === 'object' && typeof raw.trialList === 'string') {
-    const conditions = Array.isArray(raw.conditions) ? (raw.conditions as { name?: unknown }[]).map((c) => String(c?.name)) : [];
-    raw.trialList = readTrialList(resolve(dirname(file), raw.trialList), conditions);
-  }
-  const s = validate(scenarioSchema, raw, file);
+  return resolveStudy(applyOverrides(readScenario(file), overrides), file);
+}
+
+/** Command-line overrides of a scenario's observers, trials and seed. */
+export function applyOverrides(s: Scenario, overrides: { observers?: number; trials?: number[]; seed?: number }): Scenario {
   if (overrides.observers !== undefined) s.generate.observers = overrides.observers;
   if (overrides.trials !== undefined) s.trials = overrides.trials.length === 1 ? overrides.trials[0] : overrides.trials;
   if (overrides.seed !== undefined) s.seed = overrides.seed;
-  return resolveStudy(s, file);
+  return s;
 }

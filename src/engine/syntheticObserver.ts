@@ -45,7 +45,6 @@ export function syntheticDataset(study: ResolvedStudy, generating: string, obser
   const truth = drawTruth(study, model, rand);
   const s = study.scenario;
   const maxT = study.trialCounts[study.trialCounts.length - 1];
-  const nCond = s.conditions.length;
   const stimulusDist = createDistribution(s.stimulus ?? s.prior);
   const stimulus = new Float64Array(maxT);
   const condition = new Int32Array(maxT);
@@ -67,17 +66,20 @@ export function syntheticDataset(study: ResolvedStudy, generating: string, obser
     }
     return queues[c].pop()!;
   };
+  // A block holds each condition as often as its share of the trial split (once by default).
+  const blockSpec = s.conditions.flatMap((c, i) => new Array<number>(s.split?.[c.name] ?? 1).fill(i));
+  const blockSize = blockSpec.length;
   for (let t = 0; t < maxT; t++) {
-    if (t % nCond === 0) {
-      // A fresh random order of the conditions for every block.
+    if (t % blockSize === 0) {
+      // A fresh random order of the block for every block.
       block.length = 0;
-      for (let c = 0; c < nCond; c++) block.push(c);
-      for (let i = nCond - 1; i > 0; i--) {
+      block.push(...blockSpec);
+      for (let i = blockSize - 1; i > 0; i--) {
         const j = Math.floor(rand() * (i + 1));
         [block[i], block[j]] = [block[j], block[i]];
       }
     }
-    condition[t] = block[t % nCond];
+    condition[t] = block[t % blockSize];
     stimulus[t] = list ? nextListed(condition[t]) : stimulusDist.sample(rand);
   }
   const full = simulateResponses(observerFromValues(model, truth), stimulus, condition, rand);

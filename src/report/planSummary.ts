@@ -10,7 +10,8 @@ import { TIED_EVIDENCE } from '../analysis/planDiagnostics.js';
 import type { GridCell } from '../analysis/planGrid.js';
 import type { Costs } from '../analysis/planChoice.js';
 import type { PlanSpec } from '../scenario/planSchema.js';
-import { csv as csvTable, studySummary } from './studyOutputs.js';
+import { studySummary } from './studyOutputs.js';
+import { csvTable } from './csv.js';
 import type { ResolvedStudy } from '../engine/resolve.js';
 import type { JobLine } from '../analysis/types.js';
 

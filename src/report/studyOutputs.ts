@@ -6,6 +6,7 @@ import { summarize, summarizeByTrials, jsonSafe, type Summary } from '../analysi
 import { sortJobLines } from '../analysis/jobKeys.js';
 import type { JobLine } from '../analysis/types.js';
 import type { ResolvedStudy } from '../engine/resolve.js';
+import { csvTable } from './csv.js';
 
 export const SUMMARY_VERSION = 1;
 
@@ -62,13 +63,7 @@ export function studySummary(study: ResolvedStudy, lines: readonly JobLine[], to
   }) as unknown as StudySummary;
 }
 
-function csvCell(v: unknown): string {
-  if (v === null || v === undefined) return '';
-  if (typeof v === 'number') return Number.isFinite(v) ? String(v) : '';
-  const s = String(v);
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-export const csv = (header: string[], rows: unknown[][]) => [header.join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
+const csv = csvTable;
 
 /** One row per (job, candidate fit). */
 export function fitsCsv(lines: readonly JobLine[]): string {

@@ -27,6 +27,36 @@ export const modelSchema = previewModelSchema.extend({
 
 const trialsSchema = z.union([z.number().int().min(10), z.array(z.number().int().min(10)).min(1)]);
 
+const trialListSchema = z
+  .union([
+    z.string().min(1).describe('CSV file with columns stimulus and condition (path relative to the scenario file)'),
+    z.strictObject({ stimulus: z.array(z.number()).min(1), condition: z.array(z.string()).min(1) }),
+  ])
+  .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution');
+
+const generateSchema = z
+  .strictObject({
+    models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
+    observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
+    parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
+    perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
+  })
+  .prefault({});
+
+/** A design variant: a name and the design fields it replaces in the base scenario. */
+export const variantSchema = z.strictObject({
+  name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only'),
+  description: z.string().optional(),
+  stimulus: distributionSchema.optional().describe('stimulus distribution of this variant'),
+  trialList: trialListSchema.optional(),
+  conditions: z.array(conditionSchema).min(1).optional().describe('conditions (noise levels) of this variant; names must stay those the models refer to'),
+  response: responseSchema.optional(),
+  trials: trialsSchema.optional(),
+  split: z.record(z.string(), z.number().int().min(1).max(20)).optional().describe('trials per block for each condition (e.g. {brief: 2, long: 1})'),
+  generate: generateSchema.optional().describe('replaces the whole generate block (e.g. to draw the noise of new conditions)'),
+});
+export type DesignVariant = z.infer<typeof variantSchema>;
+
 export const scenarioSchema = z
   .strictObject({
     name: z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, ".", "_" or "-" only').default('study'),
@@ -34,26 +64,17 @@ export const scenarioSchema = z
     seed: z.number().int().nonnegative().default(1),
     prior: distributionSchema.describe("the observer's prior"),
     stimulus: distributionSchema.optional().describe('stimulus distribution (default: the prior)'),
-    trialList: z
-      .union([
-        z.string().min(1).describe('CSV file with columns stimulus and condition (path relative to the scenario file)'),
-        z.strictObject({ stimulus: z.array(z.number()).min(1), condition: z.array(z.string()).min(1) }),
-      ])
-      .optional()
-      .describe('explicit stimuli per condition (e.g. a discrete set); replaces the stimulus distribution'),
+    trialList: trialListSchema.optional(),
     conditions: z.array(conditionSchema).min(1, 'at least one condition is needed'),
     response: responseSchema,
     models: z.array(modelSchema).min(1, 'at least one candidate model is needed'),
     measurements: z.array(z.number()).optional(),
-    trials: trialsSchema.default(240).describe('trials per observer, split evenly across conditions; a list runs a sweep'),
-    generate: z
-      .strictObject({
-        models: z.array(z.string()).optional().describe('names of the models that generate synthetic observers (default: all)'),
-        observers: z.number().int().min(1).default(20).describe('synthetic observers per generating model'),
-        parameters: z.record(z.string(), drawSchema).default({}).describe('how true parameters are drawn, by parameter name'),
-        perModel: z.record(z.string(), z.record(z.string(), drawSchema)).default({}),
-      })
-      .prefault({}),
+    trials: trialsSchema.default(240).describe('trials per observer, split evenly across conditions (or by split); a list runs a sweep'),
+    split: z
+      .record(z.string(), z.number().int().min(1).max(20))
+      .optional()
+      .describe('uneven trial split: how many trials of each condition every block holds (e.g. {brief: 2, long: 1}); default one each'),
+    generate: generateSchema,
     fitting: z
       .strictObject({
         criterion: z.enum(['aic', 'aicc', 'bic', 'cv']).default('bic'),
@@ -64,8 +85,14 @@ export const scenarioSchema = z
       })
       .prefault({}),
     plan: planSchema.optional().describe('participants × trials sizing for the group analysis (lossprobe plan)'),
+    variants: z.array(variantSchema).optional().describe('design variants that preview and size compare with the base design'),
   })
   .superRefine((s, ctx) => {
+    const variantNames = new Set<string>(['base']);
+    (s.variants ?? []).forEach((v, i) => {
+      if (variantNames.has(v.name)) ctx.addIssue({ code: 'custom', message: `variant name '${v.name}' is used twice (or is the reserved name 'base')`, path: ['variants', i, 'name'] });
+      variantNames.add(v.name);
+    });
     const names = s.models.map((m) => m.name);
     const seen = new Set<string>();
     names.forEach((n, i) => {
@@ -88,6 +115,8 @@ export const scenarioSchema = z
       for (const c of names) if (!tl.condition.includes(c)) ctx.addIssue({ code: 'custom', message: `condition '${c}' has no trials in the trial list`, path: ['trialList'] });
     }
     if (s.plan) for (const [path, message] of planProblems(s.plan, names, s.fitting.criterion)) ctx.addIssue({ code: 'custom', message, path: ['plan', ...path] });
+    for (const name of Object.keys(s.split ?? {}))
+      if (!s.conditions.some((c) => c.name === name)) ctx.addIssue({ code: 'custom', message: `'${name}' is not one of the conditions (${s.conditions.map((c) => c.name).join(', ')})`, path: ['split', name] });
     const cond = new Set<string>();
     s.conditions.forEach((c, i) => {
       if (cond.has(c.name)) ctx.addIssue({ code: 'custom', message: `condition name '${c.name}' is used twice`, path: ['conditions', i, 'name'] });

@@ -6,6 +6,7 @@ declare module 'jstat' {
     ibeta(x: number, a: number, b: number): number;
     gammapinv(p: number, a: number): number;
     normal: { inv(p: number, mean: number, sd: number): number };
+    binomial: { cdf(k: number, n: number, p: number): number };
   }
   const jStat: JStatStatic;
   export default jStat;

@@ -11,6 +11,9 @@ import type { Section } from '../section.js';
 import { design } from '../scenarioWords.js';
 import { previewFigures } from '../sections/observerPreview.js';
 import { listNames } from '../sentences.js';
+import { analyticSection } from './analyticSection.js';
+import type { DesignPreview } from '../../previewOutputs.js';
+import { jsonSafe } from '../../../analysis/jsonSafe.js';
 
 export interface PreviewPageData {
   scenario: { scenario: Scenario };
@@ -20,6 +23,8 @@ export interface PreviewPageData {
   files: Record<string, string>;
   /** Candidate pairs with identical estimates everywhere tabulated. */
   identical: [string, string][];
+  /** The analytic preview of the base design and each variant (absent with --no-analytic). */
+  designs?: DesignPreview[];
 }
 
 type Ctx = ReportContext<PreviewPageData>;
@@ -88,9 +93,9 @@ ${previewFigures(ctx, ctx.data.files)}
   },
 };
 
-export const PREVIEW_SECTIONS: readonly Section<PreviewPageData>[] = [header, findings, cautions, estimates];
+export const PREVIEW_SECTIONS: readonly Section<PreviewPageData>[] = [header, findings, cautions, estimates, analyticSection<PreviewPageData>()];
 
 export async function previewPage(data: PreviewPageData): Promise<BuiltReport> {
-  const embedded = { scenario: data.scenario, preview: { measurements: data.measurements, estimates: data.estimates } };
+  const embedded = { scenario: data.scenario, preview: { measurements: data.measurements, estimates: data.estimates }, analytic: jsonSafe(data.designs ?? []) };
   return buildPage(new ReportContext(data, embedded), PREVIEW_SECTIONS, `${data.scenario.scenario.name}: lossprobe preview`);
 }

@@ -9,6 +9,7 @@ import { glance } from './glance.js';
 import { cautions } from './cautions.js';
 import { modelRecovery } from './modelRecovery.js';
 import { trialSweep } from './trialSweep.js';
+import { sizingSection } from './sizing.js';
 import { parameterRecovery } from './parameterRecovery.js';
 import { tradeoffs } from './tradeoffs.js';
 import { designVariants } from './designVariants.js';
@@ -17,4 +18,4 @@ import { methods } from './methods.js';
 import { about } from './about.js';
 import { groupPlan } from './groupPlan.js';
 
-export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
+export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, sizingSection, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
