@@ -6,7 +6,7 @@
  * shards of the pool, and bad input (exit 2, nothing written).
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { exists, lossprobe, parseCsv, readJson, readText, removeTemp, tempDir } from './helpers/studyFixture.js';
 import { at, embeddedData, numberSpans, reportHtml, svgTexts, untracedText } from './helpers/reportPage.js';
@@ -97,22 +97,23 @@ describe('lossprobe plan', () => {
     expect(again.stderr).toMatch(/--resume/);
   });
 
-  it('fits one shard of the pool without resampling; joined shards give the unsharded plan', () => {
+  it('fits one shard of the pool without resampling; merged shards, resumed, give the unsharded plan', () => {
     const base = join(dir, 'sharded');
     const r = plan(base, ['--shard', '1/2', '--workers', '1']);
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/Shard 1 of 2/);
-    const folder = join(base, 'shard-1-of-2');
+    expect(r.stdout).toMatch(/lossprobe merge/);
+    const folder = join(base, 'shard-001-of-002');
     expect(readText(join(folder, 'jobs.jsonl')).trim().split('\n')).toHaveLength(6);
     expect(exists(join(folder, 'summary.json'))).toBe(false);
+    expect(readJson<any>(join(folder, 'shard.json')).command).toBe('plan');
     expect(plan(base, ['--shard', '2/2', '--workers', '1']).status).toBe(0);
-    // Join as the shard message says: both shards' lines in one folder, then plan --resume there.
-    const joined = join(base, 'joined');
-    mkdirSync(joined);
-    writeFileSync(join(joined, 'jobs.jsonl'), readText(join(folder, 'jobs.jsonl')) + readText(join(base, 'shard-2-of-2', 'jobs.jsonl')));
-    writeFileSync(join(joined, 'scenario.json'), readText(join(folder, 'scenario.json')));
-    expect(plan(joined, ['--resume']).status).toBe(0);
-    for (const f of ['summary.json', 'plan.csv']) expect(readText(join(joined, f))).toBe(readText(join(dir, 'one-worker', f)));
+    const merged = lossprobe(['merge', folder, join(base, 'shard-002-of-002'), '--out', base]);
+    expect(merged.stderr).toBe('');
+    expect(merged.status).toBe(0);
+    expect(merged.stdout).toMatch(/resample its studies/);
+    expect(plan(base, ['--resume']).status).toBe(0);
+    for (const f of ['summary.json', 'plan.csv']) expect(readText(join(base, f))).toBe(readText(join(dir, 'one-worker', f)));
   });
 
   it('rejects a bad plan section with exit code 2, naming the field, and writes nothing', () => {

@@ -6,6 +6,8 @@ import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
 import { planCommand } from './plan.js';
+import { mergeCommand } from './merge.js';
+import { clusterCommand } from './cluster.js';
 import { sizeCommand } from './size.js';
 import { reportCommand } from './report.js';
 
@@ -48,6 +50,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--overwrite', 'replace an existing run folder')
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
+    .option('--shard <K/N>', 'run only shard K of N of the job plan, into <out>/shard-K-of-N (join the shards with merge)')
     .action(async (file: string, opts) => runCommand(file, opts, version));
   program
     .command('plan')
@@ -67,6 +70,27 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => planCommand(file, opts, version));
+  program
+    .command('merge')
+    .description('join the shard folders of a study (run --shard K/N) into one run folder, as a single-machine run')
+    .argument('<shards...>', 'shard folders (or a run folder holding them)')
+    .requiredOption('--out <folder>', 'run folder to write the merged run into')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .action(async (folders: string[], opts) => mergeCommand(folders, opts, version));
+  program
+    .command('cluster')
+    .description('write Slurm scripts that run a study as an array job of N shards plus a dependent merge job')
+    .argument('<scenario>', 'scenario file (YAML or JSON)')
+    .requiredOption('--shards <n>', 'number of shards, one array task each')
+    .option('--partition <p>', 'Slurm partition (default: the cluster\'s default)')
+    .option('--account <a>', 'Slurm account to charge (where the cluster requires one)')
+    .option('--time <t>', 'time limit per array task, e.g. 90 (minutes), 02:00:00 or 1-00:00:00', '02:00:00')
+    .option('--cpus <c>', 'cores per array task; each is a worker', '4')
+    .option('--out <folder>', 'run folder on the cluster (default results/<name>); scripts go to <out>/slurm')
+    .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
+    .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .action((file: string, opts) => clusterCommand(file, opts, version));
   program
     .command('size')
     .description('trial-count sweep: how many trials each generating model needs to be recovered, with adaptive effort')

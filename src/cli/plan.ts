@@ -14,10 +14,11 @@ import { loadPlan } from '../engine/planStudy.js';
 import { planResults } from '../engine/planResults.js';
 import { planJobs } from '../engine/plan.js';
 import { runStudy } from '../engine/runStudy.js';
-import { parseShard, shardJobs } from '../engine/shard.js';
+import { parseShard } from '../engine/shard.js';
+import { mergeHint, openShard, recordShard } from '../engine/shardFolder.js';
 import { planHeatmap } from '../report/planHeatmap.js';
 import { describeAnalysis, percentNear, planCsv, planNotes, planSummary, PLAN_CAUTION, type PlanInputs } from '../report/planSummary.js';
-import { openRunFolder, parseTrials, reportOrWarn, writeStudyOutputs, type RunFlags } from './run.js';
+import { openRunFolder, parseTrials, writeReportOrWarn, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
 /** The flags of `run` (except --observers: the pool size is --pool), plus the plan's own. */
@@ -102,7 +103,11 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
   const shard = flags.shard === undefined ? undefined : parseShard(flags.shard);
   if (typeof shard === 'string') throw new UserError(shard);
   const base = flags.out ?? join('results', `${p.pool.scenario.name}-plan`);
-  const folder = shard ? join(base, `shard-${shard.index}-of-${shard.count}`) : base;
+  // A shard of the pool is an ordinary shard (engine/shardFolder.ts), so `lossprobe merge` joins plan shards like run shards.
+  const sharded = shard
+    ? openShard({ base, shard, command: 'plan', name: p.pool.scenario.name, scenarioHash: p.pool.hash, seed: p.pool.scenario.seed, plan: planJobs(p.pool) })
+    : undefined;
+  const folder = sharded ? sharded.folder : base;
   if (flags.overwrite && existsSync(folder)) {
     // Only ever delete what is recognisably a run folder.
     const isRun = existsSync(join(folder, 'jobs.jsonl')) || existsSync(join(folder, 'scenario.json')) || readdirSync(folder).length === 0;
@@ -110,16 +115,19 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     rmSync(folder, { recursive: true, force: true });
   }
   openRunFolder(folder, p.pool, flags.resume ?? false);
-  const jobs = shard ? shardJobs(planJobs(p.pool), shard) : undefined;
+  if (sharded) recordShard(folder, sharded.record);
+  const jobs = sharded?.jobs;
   const outcome = await runStudy(p.pool, { folder, workers, jobs, quiet: flags.quiet || flags.json });
   if (outcome.interrupted) {
     process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished pool fits are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);
     process.exit(130);
   }
-  if (shard) {
-    const msg = `Shard ${shard.index} of ${shard.count} of the pool of '${p.pool.scenario.name}': ${jobs!.length} of ${planJobs(p.pool).length} fits are in ${folder}/jobs.jsonl. When every shard has finished, join their jobs.jsonl lines into one run folder and run plan again on it with --out and --resume to resample the studies.`;
-    if (flags.json) process.stdout.write(JSON.stringify({ shard, folder, jobs: jobs!.length, failed: outcome.failed }, null, 2) + '\n');
-    else console.log(msg);
+  if (shard && jobs) {
+    if (flags.json) process.stdout.write(JSON.stringify({ shard, folder, jobs: jobs.length, failed: outcome.failed }, null, 2) + '\n');
+    else
+      console.log(
+        `Shard ${shard.index} of ${shard.count} of the pool of '${p.pool.scenario.name}': ${jobs.length} of ${planJobs(p.pool).length} fits are in ${folder}/jobs.jsonl. When every shard has finished, join them with\n  ${mergeHint(base, shard.count)}\nthen resample the studies with: lossprobe plan ${file} --out ${base} --resume`,
+      );
     return;
   }
   if (!flags.quiet && !flags.json) process.stderr.write(`Resampling ${p.plan.resamples} studies for each of ${p.plan.participants.length * p.pool.trialCounts.length} (participants, trials) cells…\n`);
@@ -131,7 +139,7 @@ export async function planCommand(file: string, flags: PlanFlags, toolVersion: s
     'plan.csv': planCsv(inputs),
     'figures/plan-heatmap.svg': await planHeatmap(inputs.cells, p.plan.target, `P(correct group conclusion): ${s.name}`),
   });
-  const reportPath = await reportOrWarn(folder);
+  const reportPath = await writeReportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printPlan(inputs, folder, reportPath);
 }

@@ -4,11 +4,15 @@
  * writes the run folder: scenario.json, jobs.jsonl, summary.json, CSV files.
  */
 import Table from 'cli-table3';
-import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
 import { runStudy } from '../engine/runStudy.js';
+import { planJobs, type JobSpec } from '../engine/plan.js';
+import { parseShard } from '../engine/shard.js';
+import { mergeHint, openShard, recordShard, type ShardRecord } from '../engine/shardFolder.js';
+import { writeFileAtomically as writeAtomically } from '../engine/atomicFile.js';
 import { confusionCsv, fitsCsv, inversionCsv, parametersCsv, studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { UserError } from './userError.js';
 import { writeReport } from '../report/html/writeReport.js';
@@ -24,6 +28,7 @@ export interface RunFlags {
   overwrite?: boolean;
   json?: boolean;
   quiet?: boolean;
+  shard?: string;
 }
 
 export function positiveInt(flag: string, v: string | undefined, max = 1e6): number | undefined {
@@ -90,12 +95,8 @@ function runFolderScenario(folder: string): { hash?: string } | null {
   }
 }
 
-/** Write to a temporary name and rename, so a file is never seen half-written. */
-export function writeAtomically(path: string, text: string): void {
-  const tmp = `${path}.partial-${process.pid}`;
-  writeFileSync(tmp, text);
-  renameSync(tmp, path);
-}
+/** Kept under this name for the commands that import it from here. */
+export { writeAtomically };
 
 export function writeStudyOutputs(folder: string, summary: StudySummary, lines: Parameters<typeof fitsCsv>[0]): void {
   writeAtomically(join(folder, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
@@ -127,12 +128,8 @@ export function printStudy(summary: StudySummary, folder: string, reportPath?: s
   if (reportPath) console.log(`Report: ${reportPath}`);
 }
 
-/**
- * The last step of a command that wrote a run folder: its report. The results
- * are already written, so a report that fails must not turn a finished run
- * into an error: it is a warning with the command to retry.
- */
-export async function reportOrWarn(folder: string): Promise<string | undefined> {
+/** report.html for a finished run folder; a report that fails must not turn a finished run into an error. */
+export async function writeReportOrWarn(folder: string): Promise<string | undefined> {
   try {
     const report = await writeReport(folder);
     for (const p of report.problems) process.stderr.write(`lossprobe: report: ${p}\n`);
@@ -143,27 +140,52 @@ export async function reportOrWarn(folder: string): Promise<string | undefined> 
   }
 }
 
+/** With --shard K/N: the shard's folder inside the run folder, its slice of the plan and its shard.json record. */
+function shardOfRun(study: ResolvedStudy, base: string, text: string | undefined): { folder: string; jobs?: JobSpec[]; record?: ShardRecord } {
+  if (text === undefined) return { folder: base };
+  const shard = parseShard(text);
+  if (typeof shard === 'string') throw new UserError(shard);
+  return openShard({ base, shard, command: 'run', name: study.scenario.name, scenarioHash: study.hash, seed: study.scenario.seed, plan: planJobs(study) });
+}
+
 export async function runCommand(file: string, flags: RunFlags, toolVersion: string): Promise<void> {
   const study = studyFromFlags(file, flags);
-  const folder = flags.out ?? join('results', study.scenario.name);
+  const base = flags.out ?? join('results', study.scenario.name);
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   // Check every flag before touching the folder: a typo must not delete (--overwrite) or create a run folder.
   const workers = positiveInt('workers', flags.workers, 256);
+  const { folder, jobs, record } = shardOfRun(study, base, flags.shard);
   if (flags.overwrite) removeRunFolder(folder);
   openRunFolder(folder, study, flags.resume ?? false);
+  if (record) recordShard(folder, record);
   const started = Date.now();
-  const outcome = await runStudy(study, { folder, workers, quiet: flags.quiet || flags.json });
+  const outcome = await runStudy(study, { folder, workers, jobs, quiet: flags.quiet || flags.json });
   if (outcome.interrupted) {
     process.stderr.write(`lossprobe: interrupted; ${outcome.lines.length} finished jobs are kept in ${folder}/jobs.jsonl. Continue with --resume.\n`);
     process.exit(130);
   }
-  const summary = studySummary(study, outcome.lines, toolVersion);
-  writeStudyOutputs(folder, summary, outcome.lines);
   writeFileSync(
     join(folder, 'run-info.json'),
     JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: outcome.ran, jobsResumed: outcome.skipped, jobsFailed: outcome.failed, finished: new Date().toISOString() }, null, 2) + '\n',
   );
-  const reportPath = await reportOrWarn(folder);
+  if (record) return printShard(record, folder, base, outcome.failed, flags.json ?? false);
+  const summary = studySummary(study, outcome.lines, toolVersion);
+  writeStudyOutputs(folder, summary, outcome.lines);
+  const reportPath = await writeReportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printStudy(summary, folder, reportPath);
+}
+
+/**
+ * A shard writes no summary: a slice of the plan summarised on its own would
+ * pass for a (smaller, skewed) study. It says what to do next instead.
+ */
+function printShard(record: ShardRecord, folder: string, base: string, failed: number, json: boolean): void {
+  const { index, count } = record.shard;
+  if (json) {
+    process.stdout.write(JSON.stringify({ shard: record.shard, folder, jobs: record.jobs, failed, plannedJobs: record.plan.jobs }, null, 2) + '\n');
+    return;
+  }
+  console.log(`Shard ${index} of ${count} of '${record.name}': ${record.jobs} of the plan's ${record.plan.jobs} jobs are in ${folder}/jobs.jsonl${failed ? ` (${failed} failed)` : ''}.`);
+  console.log(`When every shard has finished, join them with:\n  ${mergeHint(base, count)}`);
 }

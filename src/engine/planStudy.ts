@@ -8,7 +8,7 @@
  */
 import { UserError } from '../cli/userError.js';
 import type { PlanSpec } from '../scenario/planSchema.js';
-import type { Scenario } from '../scenario/schema.js';
+import { scenarioSchema, type Scenario } from '../scenario/schema.js';
 import { loadStudy, resolveStudy, type ResolvedStudy } from './resolve.js';
 
 export interface PlanStudy {
@@ -60,7 +60,8 @@ export function loadPlan(file: string, o: PlanOverrides = {}): PlanStudy {
   };
   if (plan.poolReplicates === 1) throw new UserError('--pool-replicates expects 0 (off) or at least 2');
   plan.participants = [...new Set(plan.participants)].sort((a, b) => a - b);
-  const pool = resolveStudy(poolScenario(s, plan), file);
+  // Parsed again so its keys come in the schema's order: the hash must be the one a merge recomputes from scenario.json.
+  const pool = resolveStudy(scenarioSchema.parse(poolScenario(s, plan)), file);
   const majority = Object.entries(plan.population).reduce((a, b) => (b[1] > a[1] ? b : a))[0];
   return { pool, plan, majority, source: file };
 }

@@ -39,3 +39,18 @@ export function shardOfKey(planKeys: readonly string[], key: string, count: numb
   const i = sorted.indexOf(key);
   return i < 0 ? 0 : (i % count) + 1;
 }
+
+/**
+ * The folder of one shard inside a study's run folder, e.g. shard-003-of-008:
+ * zero-padded (at least 3 digits) so the shards list in order and a shell glob
+ * such as shard-*-of-008 picks exactly the shards of one split.
+ */
+export function shardFolderName(shard: Shard): string {
+  const width = Math.max(3, String(shard.count).length);
+  return `shard-${String(shard.index).padStart(width, '0')}-of-${String(shard.count).padStart(width, '0')}`;
+}
+
+/** A shell glob matching the folders of every shard of a split into `count` shards, e.g. shard-*-of-008. */
+export function shardGlob(count: number): string {
+  return shardFolderName({ index: count, count }).replace(/^shard-\d+-/, 'shard-*-');
+}

@@ -6,6 +6,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { JobLine } from '../../analysis/types.js';
+import { compareJobKeys } from '../../analysis/jobKeys.js';
 import type { StudySummary } from '../studyOutputs.js';
 import type { Scenario } from '../../scenario/schema.js';
 import { UserError } from '../../cli/userError.js';
@@ -76,7 +77,9 @@ function readLines(path: string): JobLine[] {
       // Only the last line can be cut short; recovery plots simply omit it.
     }
   }
-  return out;
+  // Key order, not file order: the file's order depends on worker timing and on
+  // how shards were merged, and the report must not (same seed, same report).
+  return out.sort((a, b) => compareJobKeys(a.key, b.key));
 }
 
 export function trialCountsOf(summary: ReportSummary): number[] {

@@ -1,0 +1,93 @@
+/**
+ * `lossprobe cluster SCENARIO --shards N`: writes ready-to-submit Slurm
+ * scripts that run the study's recovery plan as an N-task array job and merge
+ * the shards in a dependent job (src/cluster/slurmScripts.ts), and prints how
+ * to submit them. The study is resolved here first, so a bad scenario or flag
+ * is caught on the login node, not in N queued tasks.
+ */
+import { chmodSync, mkdirSync } from 'node:fs';
+import { join, resolve } from 'node:path';
+import { slurmScripts } from '../cluster/slurmScripts.js';
+import { writeFileAtomically } from '../engine/atomicFile.js';
+import { planJobs } from '../engine/plan.js';
+import { shardGlob } from '../engine/shard.js';
+import { studyFromFlags, type RunFlags } from './run.js';
+import { UserError } from './userError.js';
+
+export interface ClusterFlags extends Pick<RunFlags, 'observers' | 'trials' | 'seed'> {
+  shards: string;
+  partition?: string;
+  account?: string;
+  time: string;
+  cpus: string;
+  out?: string;
+}
+
+function wholeNumber(flag: string, v: string, max: number): number {
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < 1 || n > max) throw new UserError(`--${flag} expects a whole number from 1 to ${max} (got '${v}')`);
+  return n;
+}
+
+/** Slurm's time formats: minutes, MM:SS, HH:MM:SS, D-HH, D-HH:MM, D-HH:MM:SS (sbatch(1), --time). */
+const SLURM_TIME = /^(\d+|\d+:\d\d|\d+:\d\d:\d\d|\d+-\d+|\d+-\d+:\d\d|\d+-\d+:\d\d:\d\d)$/;
+/** Partition and account names go into #SBATCH lines unquoted. */
+const SLURM_NAME = /^[A-Za-z0-9_.,-]+$/;
+
+export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: string): void {
+  const shards = wholeNumber('shards', flags.shards, 10_000);
+  const cpus = wholeNumber('cpus', flags.cpus, 1024);
+  if (!SLURM_TIME.test(flags.time)) throw new UserError(`--time expects a Slurm time limit: minutes, HH:MM:SS or D-HH:MM:SS, e.g. 90, 02:00:00 or 1-12:00:00 (got '${flags.time}')`);
+  for (const flag of ['partition', 'account'] as const) {
+    const v = flags[flag];
+    if (v !== undefined && !SLURM_NAME.test(v)) throw new UserError(`--${flag} expects a Slurm ${flag} name of letters, digits and _ . , - (got '${v}')`);
+  }
+  const study = studyFromFlags(file, flags);
+  const jobs = planJobs(study).length;
+  if (shards > jobs) throw new UserError(`--shards ${shards} exceeds the study's ${jobs} jobs; some array tasks would have nothing to do (use at most ${jobs})`);
+  const out = resolve(flags.out ?? join('results', study.scenario.name));
+  // Slurm reads the log paths from #SBATCH lines, where blanks split words and % starts a pattern.
+  if (/[\s%'"\\]/.test(out)) throw new UserError(`--out ${out}: the run folder's path must not contain blanks, quotes, backslashes or '%' (Slurm reads it from #SBATCH lines); choose another folder`);
+  const studyFlags = [
+    ...(flags.observers !== undefined ? ['--observers', flags.observers] : []),
+    ...(flags.trials !== undefined ? ['--trials', flags.trials] : []),
+    ...(flags.seed !== undefined ? ['--seed', flags.seed] : []),
+  ];
+  const scripts = slurmScripts({
+    toolVersion,
+    command: 'run',
+    name: study.scenario.name,
+    scenarioHash: study.hash,
+    seed: study.scenario.seed,
+    jobs,
+    shards,
+    cpus,
+    time: flags.time,
+    partition: flags.partition,
+    account: flags.account,
+    node: process.execPath,
+    cli: resolve(process.argv[1]),
+    scenario: resolve(file),
+    studyFlags,
+    out,
+  });
+  const dir = join(out, 'slurm');
+  try {
+    // Slurm does not create the folders of --output paths; a missing one loses the task's log.
+    mkdirSync(join(out, 'logs'), { recursive: true });
+    mkdirSync(dir, { recursive: true });
+    for (const [name, text] of Object.entries(scripts)) writeFileAtomically(join(dir, name), text);
+    chmodSync(join(dir, 'submit.sh'), 0o755);
+  } catch (e) {
+    throw new UserError(`cannot write the Slurm scripts into ${dir}: ${(e as Error).message}`);
+  }
+  const perShard = Math.ceil(jobs / shards);
+  console.log(`Slurm scripts for '${study.scenario.name}' (${jobs} jobs in ${shards} shards of up to ${perShard}; ${cpus} cores and ${flags.time} per task) in ${dir}/:`);
+  console.log(`  array.sbatch  array task K runs shard K into ${join(out, shardGlob(shards).replace('*', 'K'))}`);
+  console.log(`  merge.sbatch  joins the shards into ${out}/ (summary.json, CSV files)`);
+  console.log('  submit.sh     queues the array, then the merge to start once every task has ended');
+  console.log(`Submit from a login node of the cluster (same files and paths):\n  bash ${join(dir, 'submit.sh')}`);
+  console.log(`Logs: ${join(out, 'logs')}/shard-K.log and merge.log. If task K fails or hits its time limit, resubmit it (it resumes where it stopped) and merge again:`);
+  console.log(`  sbatch --array=K ${join(dir, 'array.sbatch')}\n  sbatch ${join(dir, 'merge.sbatch')}`);
+  if (shards > 1000) console.log('Note: many clusters cap array indices at 1000 (MaxArraySize); ask your administrators or use fewer shards.');
+}
