@@ -5,6 +5,7 @@ import { createRequire } from 'node:module';
 import { UserError } from './userError.js';
 import { printPreview, runPreview } from './preview.js';
 import { runCommand } from './run.js';
+import { planCommand } from './plan.js';
 import { mergeCommand } from './merge.js';
 import { clusterCommand } from './cluster.js';
 import { sizeCommand } from './size.js';
@@ -54,6 +55,24 @@ async function main(argv: string[]): Promise<void> {
     .option('--quiet', 'no progress output')
     .option('--shard <K/N>', 'run only shard K of N of the job plan, into <out>/shard-K-of-N (join the shards with merge)')
     .action(async (file: string, opts) => runCommand(file, opts, version));
+  program
+    .command('plan')
+    .description('size participants × trials for the planned group analysis: resample whole studies from a pool of simulated participants')
+    .argument('<scenario>', 'scenario file with a plan section (YAML or JSON)')
+    .option('--participants <list>', 'numbers of participants to try, e.g. 10,20,40 (overrides plan.participants)')
+    .option('--trials <list>', 'trials per participant: a list 60,120,240 or a range 60:480:60 (overrides plan.trials)')
+    .option('--pool <n>', 'simulated participants per population model (overrides plan.pool)')
+    .option('--resamples <n>', 'simulated studies per cell (overrides plan.resamples)')
+    .option('--pool-replicates <b>', "bootstrap replicates of the pool for intervals that count its sampling error; 0 turns them off (overrides plan.poolReplicates)")
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--workers <w>', 'worker threads for the pool fits (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>-plan)')
+    .option('--resume', 'continue an interrupted pool, or reuse a finished one with new grid settings')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--shard <K/N>', 'fit only shard K of N of the pool (for cluster array jobs); no resampling')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => planCommand(file, opts, version));
   program
     .command('merge')
     .description('join the shard folders of a study (run --shard K/N) into one run folder, as a single-machine run')

@@ -58,6 +58,16 @@ const mergers: Record<string, Merger> = {
       return { needed: false, reason: 'a recovery study runs its whole plan in one round' };
     },
   },
+  // The shards of `plan` hold its pool, an ordinary recovery study; the grid settings are not in the pool's
+  // scenario (they stay out of its hash), so resampling is left to `plan --resume` on the merged folder.
+  plan: {
+    planKeys: (study) => planJobs(study).map((j) => j.key),
+    async finish(o) {
+      const next = await mergers.run.finish(o);
+      if (!o.json) console.log(`This is the pool of a group plan: resample its studies with \`lossprobe plan SCENARIO --out ${o.folder} --resume\`.`);
+      return { ...next, reason: 'the pool of a plan runs in one round; its studies are resampled by plan --resume' };
+    },
+  },
 };
 
 /** The study the shards ran, rebuilt from the resolved scenario they recorded; its hash must come out the same. */

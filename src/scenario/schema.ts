@@ -9,6 +9,7 @@
 import { z } from 'zod';
 import { distributionSchema } from '../observer/distributions/registry.js';
 import { conditionSchema, modelSchema as previewModelSchema, responseSchema } from './previewSchema.js';
+import { planProblems, planSchema } from './planSchema.js';
 
 const pair = z.tuple([z.number(), z.number()]).refine((p) => p[1] >= p[0], { message: 'the second number must be at least the first' });
 
@@ -100,6 +101,7 @@ export const scenarioSchema = z
         folds: z.number().int().min(2).max(20).default(5).describe('folds for the cv criterion'),
       })
       .prefault({}),
+    plan: planSchema.optional().describe('participants × trials sizing for the group analysis (lossprobe plan)'),
     variants: z.array(variantSchema).optional().describe('design variants that preview and size compare with the base design'),
   })
   .superRefine((s, ctx) => {
@@ -129,6 +131,7 @@ export const scenarioSchema = z
       });
       for (const c of names) if (!tl.condition.includes(c)) ctx.addIssue({ code: 'custom', message: `condition '${c}' has no trials in the trial list`, path: ['trialList'] });
     }
+    if (s.plan) for (const [path, message] of planProblems(s.plan, names, s.fitting.criterion)) ctx.addIssue({ code: 'custom', message, path: ['plan', ...path] });
     for (const name of Object.keys(s.split ?? {}))
       if (!s.conditions.some((c) => c.name === name)) ctx.addIssue({ code: 'custom', message: `'${name}' is not one of the conditions (${s.conditions.map((c) => c.name).join(', ')})`, path: ['split', name] });
     const cond = new Set<string>();

@@ -24,6 +24,8 @@ export interface ScenarioRecord {
 export type ReportSummary = StudySummary & {
   /** Added by `size`: the target and trials needed (shape owned by the sizing code). */
   sizing?: { target?: number } & Record<string, unknown>;
+  /** Added by `plan`: P(correct group conclusion) over participants × trials (shape owned by report/planSummary.ts). */
+  plan?: Record<string, unknown>;
   /** Design variants compared side by side: one study summary per variant. */
   variants?: { name: string; overall: StudySummary['overall'] }[];
 } & Record<string, unknown>;

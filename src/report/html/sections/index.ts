@@ -16,5 +16,6 @@ import { designVariants } from './designVariants.js';
 import { observerPreview } from './observerPreview.js';
 import { methods } from './methods.js';
 import { about } from './about.js';
+import { groupPlan } from './groupPlan.js';
 
-export const SECTIONS: readonly Section[] = [header, glance, cautions, modelRecovery, trialSweep, sizingSection, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
+export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, sizingSection, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
