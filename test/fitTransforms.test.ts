@@ -351,3 +351,26 @@ describe('crossValidatedLogLik', () => {
     expect(cv).toBeGreaterThan(full.logLikelihood - 30);
   }, 300_000);
 });
+
+describe('default fitting bounds', () => {
+  // Noise on log x is unitless, so its default bounds must not scale with the
+  // response range (a 0–3000 ms scale once gave log-space sd bounds of [30, 1500]).
+  const candidate = (family: 'log-gaussian' | 'constant') =>
+    defineCandidate({
+      name: 'm',
+      loss: { family: 'squared' },
+      prior: { family: 'log-normal', mu: 6.5, sigma: 0.4 },
+      conditions: [{ name: 'tone', noise: family === 'log-gaussian' ? { family, sd: 0.2 } : { family, sd: 80 } }],
+      scale: { lower: 0, upper: 3000, ends: 'censor' },
+      motorSd: 30,
+      lapseRate: 0.02,
+    } as Parameters<typeof defineCandidate>[0]);
+  it('log-space noise sd keeps unitless bounds whatever the scale', () => {
+    const sd = candidate('log-gaussian').free.find((p) => p.name === 'noise.tone.sd')!;
+    expect([sd.lower, sd.upper]).toEqual([0.01, 3]);
+  });
+  it('linear noise sd scales with the response range', () => {
+    const sd = candidate('constant').free.find((p) => p.name === 'noise.tone.sd')!;
+    expect([sd.lower, sd.upper]).toEqual([30, 1500]);
+  });
+});

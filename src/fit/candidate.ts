@@ -45,14 +45,15 @@ export interface CandidateOptions {
 }
 
 /** Default bounds, scaled to the response range where a parameter has stimulus units. */
-function defaultBounds(name: string, range: number): Bounded {
+function defaultBounds(name: string, range: number, logSpaceNoise: boolean): Bounded {
   const leaf = name.split('.').pop()!;
   switch (leaf) {
     case 'sd':
     case 'sd0':
       // Sensory noise below 1% of the response range is implausible for estimation
       // tasks, and the grids (which follow the noise) grow as range/sd.
-      return name.includes('log-gaussian') ? { lower: 0.01, upper: 3, transform: 'log' } : { lower: range * 1e-2, upper: range / 2, transform: 'log' };
+      // Noise on log x is unitless (a fraction, roughly), whatever the response range.
+      return logSpaceNoise ? { lower: 0.01, upper: 3, transform: 'log' } : { lower: range * 1e-2, upper: range / 2, transform: 'log' };
     case 'weber':
       return { lower: 0.01, upper: 1.5, transform: 'log' };
     case 'motorSd':
@@ -89,7 +90,8 @@ export function defineCandidate(o: CandidateOptions): CandidateModel {
   const free: FreeParameter[] = freeNames.map((name) => {
     if (!(name in base)) throw new Error(`model '${o.name}': unknown parameter '${name}' (known: ${Object.keys(base).join(', ')})`);
     const lossParam = fam.parameters.find((p) => `loss.${p.name}` === name);
-    let b: Bounded = defaultBounds(name, range);
+    const condition = name.startsWith('noise.') ? o.conditions.find((c) => name === `noise.${c.name}.${name.split('.').pop()}`) : undefined;
+    let b: Bounded = defaultBounds(name, range, condition?.noise.family === 'log-gaussian');
     if (lossParam && !['window', 'width'].includes(lossParam.name)) b = { lower: lossParam.min, upper: lossParam.max, transform: lossParam.transform };
     const user = o.bounds?.[name];
     if (user) b = { ...b, lower: user.lower, upper: user.upper };
