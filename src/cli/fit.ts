@@ -19,6 +19,9 @@ import { DEFAULT_COLUMNS, readParticipantData, type DataColumns } from '../data/
 import { bootstrapKey, participantKey, toArrays, type BootstrapTask, type ParticipantTask } from '../engine/fitParticipant.js';
 import { runPool } from '../engine/pool.js';
 import { loadStudy, type ResolvedStudy } from '../engine/resolve.js';
+import { parseShard } from '../engine/shard.js';
+import { mergeHint, openShard, recordShard } from '../engine/shardFolder.js';
+import { writeFitSettings, type FitSettings } from './fitSettings.js';
 import { nestingOf } from '../fit/nesting.js';
 import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCsv, participantsCsv, predictiveChecksCsv } from '../report/fitOutputs.js';
 import { SUMMARY_VERSION } from '../report/studyOutputs.js';
@@ -39,6 +42,7 @@ export interface FitFlags extends Pick<RunFlags, 'workers' | 'out' | 'resume' | 
   bootstrap?: string;
   drawsOut?: string;
   drawsParticipants?: string;
+  shard?: string;
 }
 
 export const CAUTION =
@@ -51,7 +55,7 @@ function wholeNumber(flag: string, v: string | undefined, min: number, max: numb
   return n;
 }
 
-function readRecoveryStudy(folder: string, study: ResolvedStudy): RecoveryStudy {
+export function readRecoveryStudy(folder: string, study: ResolvedStudy): RecoveryStudy {
   const path = join(folder, 'summary.json');
   let s: RecoveryStudy;
   try {
@@ -114,8 +118,17 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     .update(JSON.stringify(participants.map((p) => [p.participant, toArrays(p.data)])))
     .update(JSON.stringify({ evidence, replicates }))
     .digest('hex');
-  const folder = flags.out ?? join('results', `${s.name}-fit`);
-  prepareRunFolder(folder, { hash, scenario: s }, flags);
+  const base = flags.out ?? join('results', `${s.name}-fit`);
+  const settings: FitSettings = {
+    version: 1,
+    dataFile: flags.data,
+    columns,
+    evidence,
+    participants: participants.map((p) => p.participant),
+    ...(flags.recovery ? { recovery: flags.recovery } : {}),
+    ...(flags.drawsOut ? { drawsOut: flags.drawsOut } : {}),
+    ...(drawIds ? { drawsParticipants: drawIds } : {}),
+  };
 
   const crossValidate = evidence === 'cv';
   const tasks = participants.map((p) => {
@@ -123,18 +136,37 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     const task: ParticipantTask = { kind: 'participant', scenario: s, hash: study.hash, key, participant: p.participant, trials: toArrays(p.data), crossValidate };
     return { key, task };
   });
+  let folder = base;
+  let jobs = tasks;
+  if (flags.shard !== undefined) {
+    if (replicates > 0)
+      throw new UserError('--bootstrap cannot be combined with --shard: the bootstrap stage needs every participant\'s fit and stays unsharded; fit the shards, merge them, then run the bootstrap on one machine (`lossprobe fit SCENARIO --data FILE --bootstrap N` without --shard)');
+    const shard = parseShard(flags.shard);
+    if (typeof shard === 'string') throw new UserError(shard);
+    const opened = openShard({ base, shard, command: 'fit', name: s.name, scenarioHash: hash, seed: s.seed, plan: tasks });
+    folder = opened.folder;
+    jobs = opened.jobs;
+    prepareRunFolder(folder, { hash, scenario: s }, flags);
+    recordShard(folder, opened.record);
+    writeFitSettings(folder, settings);
+  } else prepareRunFolder(folder, { hash, scenario: s }, flags);
   const worker = new URL('../engine/fitWorker.js', import.meta.url);
   const quiet = flags.quiet || flags.json;
   const fitted = await runPool<ParticipantTask, ParticipantLine>({
     path: join(folder, 'jobs.jsonl'),
     worker,
-    jobs: tasks,
+    jobs,
     workers,
     quiet,
     failedLine: (key, message) => ({ key, participant: tasks.find((t) => t.key === key)!.task.participant, trials: 0, status: 'failed', error: message, fits: [], comparison: null, predictive: [] }),
   });
   interruptedExit(fitted.interrupted, folder);
   const lines = [...fitted.lines].sort((a, b) => compareJobKeys(a.key, b.key));
+  if (flags.shard !== undefined) {
+    // A shard writes no summary: group-level selection needs every participant.
+    if (!flags.json) console.log(`Fitted ${lines.length} participant(s) of shard ${flags.shard} into ${folder}/. Once every shard has finished: ${mergeHint(base, Number(flags.shard.split('/')[1]))}`);
+    return;
+  }
   const summaries = lines.map(participantSummary);
 
   let bootstrapLines: BootstrapLine[] = [];
@@ -168,6 +200,35 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
     bootstrapLines = boot.lines;
   }
 
+  await finishFit({ folder, study, lines, summaries, settings, fitHash: hash, recovery, replicates, bootstrapLines, toolVersion, json: flags.json ?? false });
+}
+
+/**
+ * Everything a fit writes once every participant is fitted: summary.json, the
+ * CSV files, figures and the optional draw file. Shared by `fit` and by
+ * `merge` of fit shards, so both give the same folder.
+ */
+export async function finishFit(o: {
+  folder: string;
+  study: ResolvedStudy;
+  lines: ParticipantLine[];
+  summaries?: ReturnType<typeof participantSummary>[];
+  settings: FitSettings;
+  fitHash: string;
+  recovery: RecoveryStudy | null;
+  replicates: number;
+  bootstrapLines: BootstrapLine[];
+  toolVersion: string;
+  json: boolean;
+}): Promise<void> {
+  const { folder, study, lines, recovery, replicates, bootstrapLines, toolVersion, settings } = o;
+  const s = study.scenario;
+  const summaries = o.summaries ?? lines.map(participantSummary);
+  const evidence = settings.evidence;
+  const hash = o.fitHash;
+  const flags = { data: settings.dataFile, recovery: settings.recovery, drawsOut: settings.drawsOut, json: o.json };
+  const columns = settings.columns;
+  const drawIds = settings.drawsParticipants;
   const candidates = study.candidates.map((c) => c.name);
   const group = groupSummary(lines, s.fitting.criterion, { candidates, evidence, nested: nestedPairs(study) });
   const bootstrap = bootstrapSummaries(bootstrapLines, new Map(summaries.map((p) => [p.participant, p.decision])));

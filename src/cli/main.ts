@@ -138,6 +138,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--out <folder>', 'run folder (default results/<name>-fit)')
     .option('--resume', 'continue a fit that was interrupted')
     .option('--overwrite', 'replace an existing run folder')
+    .option('--shard <K/N>', 'fit only shard K of N of the participants, into <out>/shard-K-of-N (join with merge; not with --bootstrap)')
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => fitCommand(file, opts, version));

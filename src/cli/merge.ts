@@ -18,6 +18,10 @@ import { planDigest } from '../engine/shardFolder.js';
 import { studySummary } from '../report/studyOutputs.js';
 import { validate } from '../scenario/load.js';
 import { scenarioSchema } from '../scenario/schema.js';
+import type { ParticipantLine } from '../analysis/participantTypes.js';
+import { participantKey } from '../engine/fitParticipant.js';
+import { finishFit, readRecoveryStudy } from './fit.js';
+import { readFitSettings, writeFitSettings } from './fitSettings.js';
 import { openRunFolder, printStudy, writeReportOrWarn, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
 
@@ -40,10 +44,12 @@ export interface NextRound {
 }
 
 interface Merger {
+  /** The study the shards ran (default: rebuilt from scenario.json, whose hash must be the recorded one). */
+  studyOf?(s: ShardFolder): ResolvedStudy;
   /** The full job plan of the study, as the command builds it. */
-  planKeys(study: ResolvedStudy): string[];
+  planKeys(study: ResolvedStudy, first: ShardFolder): string[];
   /** Write the command's outputs into the merged folder and print them. */
-  finish(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean }): Promise<NextRound>;
+  finish(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean; first: ShardFolder }): Promise<NextRound>;
 }
 
 const mergers: Record<string, Merger> = {
@@ -66,6 +72,32 @@ const mergers: Record<string, Merger> = {
       const next = await mergers.run.finish(o);
       if (!o.json) console.log(`This is the pool of a group plan: resample its studies with \`lossprobe plan SCENARIO --out ${o.folder} --resume\`.`);
       return { ...next, reason: 'the pool of a plan runs in one round; its studies are resampled by plan --resume' };
+    },
+  },
+  // A fit's plan is one job per participant; fit.json in each shard names them and the settings
+  // the summary needs, and scenario.json's hash is the fit's (scenario + data + settings).
+  fit: {
+    studyOf: (s) => {
+      const source = join(s.folder, 'scenario.json');
+      return resolveStudy(validate(scenarioSchema, s.scenario.scenario, source), source);
+    },
+    planKeys: (_study, first) => readFitSettings(first.folder).participants.map(participantKey),
+    async finish({ folder, study, lines, toolVersion, json, first }) {
+      const settings = readFitSettings(first.folder);
+      await finishFit({
+        folder,
+        study,
+        lines: lines as unknown as ParticipantLine[],
+        settings,
+        fitHash: first.record.scenarioHash,
+        recovery: settings.recovery ? readRecoveryStudy(settings.recovery, study) : null,
+        replicates: 0,
+        bootstrapLines: [],
+        toolVersion,
+        json,
+      });
+      writeFitSettings(folder, settings);
+      return { needed: false, reason: 'a fit runs every participant in one round (a bootstrap runs unsharded afterwards)' };
     },
   },
 };
@@ -99,17 +131,17 @@ export async function mergeCommand(args: string[], flags: MergeFlags, toolVersio
   const first = shards[0].record;
   const merger = mergers[first.command];
   if (!merger) throw new UserError(`merge cannot finish shards of '${first.command}' (this lossprobe knows: ${Object.keys(mergers).join(', ')}); update lossprobe`);
-  const study = studyOfShard(shards[0]);
-  const planKeys = merger.planKeys(study);
+  const study = (merger.studyOf ?? studyOfShard)(shards[0]);
+  const planKeys = merger.planKeys(study, shards[0]);
   if (planDigest(planKeys) !== first.plan.digest)
     throw new UserError(`the shards' plan (${first.plan.jobs} jobs) differs from the plan this lossprobe builds for their scenario (${planKeys.length} jobs); merge with the version that ran the shards`);
   const { count } = first.shard;
   const lines = joinShardLines(shards, planKeys, (k) => `shard ${k}: \`lossprobe ${first.command} SCENARIO --shard ${k}/${count} --resume\` with the same flags, or \`sbatch --array=${k} array.sbatch\``);
   checkOutFolder(flags.out, shards);
   // Everything is checked; from here on the merged folder is written, each file atomically.
-  openRunFolder(flags.out, study, true);
+  openRunFolder(flags.out, { hash: first.scenarioHash, scenario: study.scenario }, true);
   writeFileAtomically(join(flags.out, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
-  const next = await merger.finish({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false });
+  const next = await merger.finish({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false, first: shards[0] });
   const failed = lines.filter((l) => l.status !== 'ok').length;
   writeFileAtomically(
     join(flags.out, 'merge.json'),
