@@ -140,7 +140,7 @@ export async function fitCommand(file: string, flags: FitFlags, toolVersion: str
   let jobs = tasks;
   if (flags.shard !== undefined) {
     if (replicates > 0)
-      throw new UserError('--bootstrap cannot be combined with --shard: the bootstrap stage needs every participant\'s fit and stays unsharded; fit the shards, merge them, then run the bootstrap on one machine (`lossprobe fit SCENARIO --data FILE --bootstrap N` without --shard)');
+      throw new UserError('--bootstrap cannot be combined with --shard: the bootstrap stage needs every participant\'s fit and stays unsharded; drop --bootstrap to fit the participants in shards, or run `lossprobe fit SCENARIO --data FILE --bootstrap N` on one machine without --shard (it fits the participants as well)');
     const shard = parseShard(flags.shard);
     if (typeof shard === 'string') throw new UserError(shard);
     const opened = openShard({ base, shard, command: 'fit', name: s.name, scenarioHash: hash, seed: s.seed, plan: tasks });
