@@ -1,6 +1,7 @@
 /**
  * `lossprobe cluster SCENARIO --shards N`: writes ready-to-submit Slurm
- * scripts that run the study's recovery plan as an N-task array job and merge
+ * scripts that run the study's recovery plan (or, with --fit-data, a fit of
+ * participants' data) as an N-task array job and merge
  * the shards in a dependent job (src/cluster/slurmScripts.ts), and prints how
  * to submit them. The study is resolved here first, so a bad scenario or flag
  * is caught on the login node, not in N queued tasks.
@@ -11,6 +12,7 @@ import { slurmScripts } from '../cluster/slurmScripts.js';
 import { writeFileAtomically } from '../engine/atomicFile.js';
 import { planJobs } from '../engine/plan.js';
 import { shardGlob } from '../engine/shard.js';
+import { fitParticipants } from './fit.js';
 import { studyFromFlags, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
@@ -21,6 +23,8 @@ export interface ClusterFlags extends Pick<RunFlags, 'observers' | 'trials' | 's
   time: string;
   cpus: string;
   out?: string;
+  /** Shard `fit` of this data file instead of a recovery study (`run`). */
+  fitData?: string;
 }
 
 function wholeNumber(flag: string, v: string, max: number): number {
@@ -42,20 +46,24 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
     const v = flags[flag];
     if (v !== undefined && !SLURM_NAME.test(v)) throw new UserError(`--${flag} expects a Slurm ${flag} name of letters, digits and _ . , - (got '${v}')`);
   }
+  const fitData = flags.fitData;
+  if (fitData !== undefined && (flags.observers !== undefined || flags.trials !== undefined || flags.seed !== undefined))
+    throw new UserError('--fit-data shards a fit of participants\' data; --observers, --trials and --seed belong to a recovery study and cannot be combined with it');
   const study = studyFromFlags(file, flags);
-  const jobs = planJobs(study).length;
+  // A fit's plan is one job per participant; reading the data here catches a bad file before N tasks queue.
+  const jobs = fitData !== undefined ? fitParticipants(study, fitData).length : planJobs(study).length;
   if (shards > jobs) throw new UserError(`--shards ${shards} exceeds the study's ${jobs} jobs; some array tasks would have nothing to do (use at most ${jobs})`);
-  const out = resolve(flags.out ?? join('results', study.scenario.name));
+  const out = resolve(flags.out ?? join('results', fitData !== undefined ? `${study.scenario.name}-fit` : study.scenario.name));
   // Slurm reads the log paths from #SBATCH lines, where blanks split words and % starts a pattern.
   if (/[\s%'"\\]/.test(out)) throw new UserError(`--out ${out}: the run folder's path must not contain blanks, quotes, backslashes or '%' (Slurm reads it from #SBATCH lines); choose another folder`);
-  const studyFlags = [
+  const studyFlags = fitData !== undefined ? ['--data', resolve(fitData)] : [
     ...(flags.observers !== undefined ? ['--observers', flags.observers] : []),
     ...(flags.trials !== undefined ? ['--trials', flags.trials] : []),
     ...(flags.seed !== undefined ? ['--seed', flags.seed] : []),
   ];
   const scripts = slurmScripts({
     toolVersion,
-    command: 'run',
+    command: fitData !== undefined ? 'fit' : 'run',
     name: study.scenario.name,
     scenarioHash: study.hash,
     seed: study.scenario.seed,

@@ -90,16 +90,28 @@ function nestedPairs(study: ResolvedStudy): NestedPair[] {
   return out;
 }
 
-export async function fitCommand(file: string, flags: FitFlags, toolVersion: string): Promise<void> {
-  if (!flags.data) throw new UserError('fit needs the participants\' data: --data FILE.csv');
-  const study = loadStudy(file);
-  const s = study.scenario;
-  const columns: DataColumns = {
+/** The data file's columns: flags first, then the scenario's data block, then the defaults. */
+export function fitColumns(s: ResolvedStudy['scenario'], flags: FitFlags): DataColumns {
+  return {
     participant: flags.participantColumn ?? s.data?.participant ?? DEFAULT_COLUMNS.participant,
     condition: flags.conditionColumn ?? s.data?.condition ?? DEFAULT_COLUMNS.condition,
     stimulus: flags.stimulusColumn ?? s.data?.stimulus ?? DEFAULT_COLUMNS.stimulus,
     response: flags.responseColumn ?? s.data?.response ?? DEFAULT_COLUMNS.response,
   };
+}
+
+/** The participants a fit of this scenario would read from `data` (used by `cluster` to size the array). */
+export function fitParticipants(study: ResolvedStudy, data: string, flags: FitFlags = {}): ReturnType<typeof readParticipantData> {
+  const s = study.scenario;
+  const minTrials = wholeNumber('min-trials', flags.minTrials, 1, 1e6) ?? s.data?.minTrials ?? 20;
+  return readParticipantData(data, { columns: fitColumns(s, flags), conditions: s.conditions.map((c) => c.name), lower: s.response.lower, upper: s.response.upper, minTrials });
+}
+
+export async function fitCommand(file: string, flags: FitFlags, toolVersion: string): Promise<void> {
+  if (!flags.data) throw new UserError('fit needs the participants\' data: --data FILE.csv');
+  const study = loadStudy(file);
+  const s = study.scenario;
+  const columns = fitColumns(s, flags);
   const minTrials = wholeNumber('min-trials', flags.minTrials, 1, 1e6) ?? s.data?.minTrials ?? 20;
   const evidence = (flags.evidence ?? (s.fitting.criterion === 'cv' ? 'cv' : 'bic')) as EvidenceSource;
   if (evidence !== 'bic' && evidence !== 'cv') throw new UserError(`--evidence expects 'bic' (−BIC/2, the default) or 'cv' (cross-validated log-likelihood) (got '${flags.evidence}')`);

@@ -93,6 +93,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
     .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
     .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--fit-data <file>', "shard `fit` of this participants' CSV (one job per participant) instead of a recovery study")
     .action((file: string, opts) => clusterCommand(file, opts, version));
   program
     .command('size')
