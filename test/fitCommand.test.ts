@@ -222,4 +222,17 @@ describe('fit --shard K/N and merge', () => {
     expect(boot.status).toBe(2);
     expect(boot.stderr).toMatch(/--bootstrap cannot be combined with --shard/);
   }, 120_000);
+
+  it('cluster --fit-data writes an array whose tasks run fit shards of the data, sized by its participants', () => {
+    const out = join(root, 'fit-cluster');
+    const data = join(exported, 'data.csv');
+    const c = lossprobe(['cluster', TINY, '--shards', '3', '--fit-data', data, '--out', out]);
+    expect(c.status, c.stderr).toBe(0);
+    expect(c.stdout).toMatch(/9 jobs in 3 shards/);
+    const array = readText(join(out, 'slurm', 'array.sbatch'));
+    expect(array).toMatch(/"\$cli" fit \S+tiny-study\.yaml --data \S+data\.csv --shard "\$shard\/3"/);
+    const tooMany = lossprobe(['cluster', TINY, '--shards', '10', '--fit-data', data, '--out', join(root, 'fit-cluster-10')]);
+    expect(tooMany.status).toBe(2);
+    expect(tooMany.stderr).toMatch(/exceeds the study's 9 jobs/);
+  });
 });
