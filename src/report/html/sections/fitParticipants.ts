@@ -1,0 +1,54 @@
+/**
+ * One block of rows per participant: the decision (a model, or undecided
+ * when the best models are too close), and for every candidate the
+ * log-likelihood, the criterion difference to the best, the weight and the
+ * fitted parameters with 95% intervals.
+ */
+import type { Section } from '../section.js';
+import type { ReportContext } from '../context.js';
+import { escapeHtml } from '../context.js';
+import { isFitFolder } from '../data.js';
+import { fitOf, PARTICIPANTS, criterionName } from '../fitData.js';
+
+function parameters(ctx: ReportContext, i: number, j: number): string {
+  const m = fitOf(ctx.data).participants[i].models[j];
+  return m.parameters
+    .map((q, k) => {
+      const p = [...PARTICIPANTS, i, 'models', j, 'parameters', k];
+      const interval = q.lower95 === null && q.upper95 === null ? '' : ` <span class="ci">[${ctx.num([...p, 'lower95'], 'value')}, ${ctx.num([...p, 'upper95'], 'value')}]</span>`;
+      return `${ctx.name(q.name)} ${ctx.num([...p, 'estimate'], 'value')}${interval}${q.atBound ? ' <span class="note">(at bound)</span>' : ''}`;
+    })
+    .join('<br>');
+}
+
+export const fitParticipants: Section = {
+  id: 'fit-participants',
+  title: 'Per participant',
+  applies: isFitFolder,
+  render(ctx) {
+    const f = fitOf(ctx.data);
+    const crit = escapeHtml(criterionName(f.criterion));
+    const blocks = f.participants.map((p, i) => {
+      const base = [...PARTICIPANTS, i];
+      const decision = p.decision === 'undecided' ? `<strong class="note">undecided</strong> <span class="muted">(${p.contenders.map((c) => ctx.name(c)).join(', ')})</span>` : p.decision === 'failed' ? `<span class="note">failed</span>` : `<strong>${ctx.name(p.decision)}</strong>`;
+      const n = Math.max(1, p.models.length);
+      const head = `<th scope="rowgroup" rowspan="${n}">${ctx.name(p.participant)}</th><td rowspan="${n}">${ctx.num([...base, 'trials'], 'count')}</td><td rowspan="${n}">${decision}</td>`;
+      if (!p.models.length) return `<tr class="group">${head}<td colspan="5">${escapeHtml(p.error ?? 'no fit')}</td></tr>`;
+      return p.models
+        .map((m, j) => {
+          const mp = [...base, 'models', j];
+          const cells = m.fitStatus === 'ok'
+            ? `<td>${ctx.num([...mp, 'logLikelihood'], 'value')}</td><td>${ctx.num([...mp, 'differenceToBest'], 'value')}</td><td>${ctx.num([...mp, 'weight'], 'percent')}</td><td>${parameters(ctx, i, j)}</td>`
+            : `<td colspan="4" class="note">fit failed: ${escapeHtml(m.note)}</td>`;
+          return `<tr${j === 0 ? ' class="group"' : ''}>${j === 0 ? head : ''}<td>${m.model === p.best ? `<strong>${ctx.name(m.model)}</strong>` : ctx.name(m.model)}</td>${cells}</tr>`;
+        })
+        .join('\n');
+    });
+    return `<p class="how">For every participant, every candidate model: the maximised log-likelihood, the ${crit} difference to the best model (0 for the best; larger is worse, on the −2 log-likelihood scale), the model's weight (exp(−Δ/2), normalised) and the fitted parameters with 95% intervals. A participant is undecided when more than one model lies within the decision margin of the best; those models are listed.</p>
+<div class="table-wrap"><table class="data fit-participants-table">
+<thead><tr><th>participant</th><th>trials</th><th>decision</th><th>model</th><th>log-likelihood</th><th>Δ ${crit}</th><th>weight</th><th>parameters [95% interval]</th></tr></thead>
+<tbody>
+${blocks.join('\n')}
+</tbody></table></div>`;
+  },
+};
