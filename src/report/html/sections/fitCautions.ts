@@ -12,7 +12,7 @@ export const fitCautions: Section = {
   <li>A winning model is only the best of the candidates compared here; a way of responding outside the candidate set can win nowhere and still be the truth. The predictive checks below show whether the winner reproduces the observed errors at all.</li>
   <li>Close criterion differences and weights near each other mean the data do not decide between those models; such participants are counted as undecided, not as wins.</li>
   <li>${hasRecovery ? 'How often a choice was right in simulation holds only under the recovery study\'s assumptions (its parameter ranges, noise and design).' : 'Without a recovery study of this design (<code>--recovery RUN_FOLDER</code>) there is no telling how often such a choice would be right; run one before reading winners as facts.'}</li>
-  <li>${ctx.name(String(ctx.data.summary.caution ?? ''))} Say so wherever you cite these figures.</li>
+  <li>${typeof ctx.data.summary.caution === 'string' ? ctx.text(['summary', 'caution']) : ''} Say so wherever you cite these figures.</li>
 </ul>`;
   },
 };

@@ -18,7 +18,7 @@ export const fitGroup: Section = {
     const g = f.group;
     const re = g.randomEffects;
     const warnings = g.warnings.length
-      ? `<div class="separation fit-warnings"><strong>Warning${g.warnings.length > 1 ? 's' : ''}:</strong><ul class="ties">${g.warnings.map((w) => `<li>${escapeHtml(w)}</li>`).join('')}</ul></div>\n`
+      ? `<div class="separation fit-warnings"><strong>Warning${g.warnings.length > 1 ? 's' : ''}:</strong><ul class="ties">${g.warnings.map((_, i) => `<li>${ctx.text([...GROUP, 'warnings', i])}</li>`).join('')}</ul></div>\n`
       : '';
     const rows = g.winnerCounts.map((w, i) => {
       const reCells = re

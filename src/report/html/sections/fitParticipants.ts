@@ -33,18 +33,18 @@ export const fitParticipants: Section = {
       const decision = p.decision === 'undecided' ? `<strong class="note">undecided</strong> <span class="muted">(${p.contenders.map((c) => ctx.name(c)).join(', ')})</span>` : p.decision === 'failed' ? `<span class="note">failed</span>` : `<strong>${ctx.name(p.decision)}</strong>`;
       const n = Math.max(1, p.models.length);
       const head = `<th scope="rowgroup" rowspan="${n}">${ctx.name(p.participant)}</th><td rowspan="${n}">${ctx.num([...base, 'trials'], 'count')}</td><td rowspan="${n}">${decision}</td>`;
-      if (!p.models.length) return `<tr class="group">${head}<td colspan="5">${escapeHtml(p.error ?? 'no fit')}</td></tr>`;
+      if (!p.models.length) return `<tr class="group">${head}<td colspan="5">${p.error ? ctx.text([...base, 'error']) : 'no fit'}</td></tr>`;
       return p.models
         .map((m, j) => {
           const mp = [...base, 'models', j];
           const cells = m.fitStatus === 'ok'
             ? `<td>${ctx.num([...mp, 'logLikelihood'], 'value')}</td><td>${ctx.num([...mp, 'differenceToBest'], 'value')}</td><td>${ctx.num([...mp, 'weight'], 'percent')}</td><td>${parameters(ctx, i, j)}</td>`
-            : `<td colspan="4" class="note">fit failed: ${escapeHtml(m.note)}</td>`;
+            : `<td colspan="4" class="note">fit failed: ${ctx.text([...mp, 'note'])}</td>`;
           return `<tr${j === 0 ? ' class="group"' : ''}>${j === 0 ? head : ''}<td>${m.model === p.best ? `<strong>${ctx.name(m.model)}</strong>` : ctx.name(m.model)}</td>${cells}</tr>`;
         })
         .join('\n');
     });
-    return `<p class="how">For every participant, every candidate model: the maximised log-likelihood, the ${crit} difference to the best model (0 for the best; larger is worse, on the −2 log-likelihood scale), the model's weight (exp(−Δ/2), normalised) and the fitted parameters with 95% intervals. A participant is undecided when more than one model lies within the decision margin of the best; those models are listed.</p>
+    return `<p class="how">For every participant, every candidate model: the maximised log-likelihood, the ${crit} difference to the best model (zero for the best; larger is worse, in deviance units: twice the log-likelihood), the model's Akaike or Schwarz weight (its share of the evidence among the candidates) and the fitted parameters with 95% intervals. A participant is undecided when more than one model lies within the decision margin of the best; those models are listed.</p>
 <div class="table-wrap"><table class="data fit-participants-table">
 <thead><tr><th>participant</th><th>trials</th><th>decision</th><th>model</th><th>log-likelihood</th><th>Δ ${crit}</th><th>weight</th><th>parameters [95% interval]</th></tr></thead>
 <tbody>

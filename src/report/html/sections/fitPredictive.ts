@@ -15,7 +15,7 @@ export const fitPredictive: Section = {
       if (!svg) continue;
       figs.push(ctx.figure(figureName(p.participant), svg, `Participant ${ctx.name(p.participant)}: observed against simulated error quantiles per model.`, `Quantile–quantile plot of participant ${p.participant}'s response errors against those simulated by each fitted model`));
     }
-    return `<p class="how">Each model is simulated at the participant's fitted parameters and the quantiles (10, 25, 50, 75 and 90%) of its response errors are plotted against the observed ones. A model that reproduces the data lies on the diagonal; a winner far from it is only the least bad of the candidates. The distances are in <code>predictive-checks.csv</code>.</p>
+    return `<p class="how">Each model is simulated at the participant's fitted parameters and the quantiles of its response errors (five, from the tenth to the ninetieth percentile) are plotted against the observed ones. A model that reproduces the data lies on the diagonal; a winner far from it is only the least bad of the candidates. The distances are in <code>predictive-checks.csv</code>.</p>
 <div class="figs">
 ${figs.join('\n')}
 </div>`;

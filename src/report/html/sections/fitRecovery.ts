@@ -1,6 +1,5 @@
 /** `fit --recovery RUN_FOLDER`: each participant's winner read against the recovery study of the design. */
 import type { Section } from '../section.js';
-import { escapeHtml } from '../context.js';
 import { isFitFolder } from '../data.js';
 import { fitOf } from '../fitData.js';
 
@@ -18,7 +17,7 @@ export const fitRecovery: Section = {
         .join('<br>');
       return `<tr><th scope="row">${ctx.name(p.participant)}</th><td>${ctx.name(p.decision)}</td><td>${ctx.num([...pb, 'participantTrials'], 'count')}</td><td>${ctx.num([...pb, 'recoveryTrials'], 'count')}</td><td>${ctx.num([...pb, 'choiceRightInSimulation'], 'percent')} <span class="ci">of ${ctx.num([...pb, 'choiceMadeInSimulation'], 'count')}</span></td><td>${params}</td></tr>`;
     });
-    return `<p>Recovery study <code>${ctx.text(['summary', 'againstRecovery', 'folder'])}</code>: ${escapeHtml(r.note)}. For each decided participant, at the study's trial count nearest theirs: how often choosing that model was right when the truth was known (out of the synthetic datasets that chose it), and whether each fitted parameter lies where the study recovered it well.</p>
+    return `<p>Recovery study <code>${ctx.text(['summary', 'againstRecovery', 'folder'])}</code>: ${ctx.text(['summary', 'againstRecovery', 'note'])}. For each decided participant, at the study's trial count nearest theirs: how often choosing that model was right when the truth was known (out of the synthetic datasets that chose it), and whether each fitted parameter lies where the study recovered it well.</p>
 <div class="table-wrap"><table class="data fit-recovery-table">
 <thead><tr><th>participant</th><th>decision</th><th>trials</th><th>study trials</th><th>choice right in simulation</th><th>parameters</th></tr></thead>
 <tbody>
