@@ -76,14 +76,14 @@ describe('the one number formatter', () => {
 });
 
 describe('report of a fit (real participants\' data)', () => {
-  // export → fit --recovery on the tiny study: about 10 s. The temp folders are removed by the next block's afterAll (removeTemp clears them all; the reference run is shared).
+  // export → fit --recovery --bootstrap 1 on the tiny study: about 15 s. The temp folders are removed by the next block's afterAll (removeTemp clears them all; the reference run is shared).
   let fit: string;
   beforeAll(() => {
     const root = tempDir();
     const e = lossprobe(['export', TINY, '--out', join(root, 'export'), '--quiet']);
     if (e.status !== 0) throw new Error(`export failed: ${e.stderr}`);
     fit = join(root, 'fit');
-    const f = lossprobe(['fit', TINY, '--data', join(root, 'export', 'data.csv'), '--recovery', referenceRun().folder, '--out', fit, '--quiet', '--workers', '2']);
+    const f = lossprobe(['fit', TINY, '--data', join(root, 'export', 'data.csv'), '--recovery', referenceRun().folder, '--bootstrap', '1', '--out', fit, '--quiet', '--workers', '2']);
     if (f.status !== 0) throw new Error(`fit failed: ${f.stderr}`);
   }, 240_000);
 
@@ -110,6 +110,8 @@ describe('report of a fit (real participants\' data)', () => {
     expect(paths).toContain(JSON.stringify(['summary', 'group', 'randomEffects', 'protectedExceedanceProbability', 0]));
     expect(paths).toContain(JSON.stringify(['summary', 'participants', 0, 'models', 0, 'parameters', 0, 'upper95']));
     expect(paths).toContain(JSON.stringify(['summary', 'againstRecovery', 'participants', 0, 'choiceRightInSimulation']));
+    // --bootstrap: one cell per participant, the replicates simulated from their best model.
+    expect(paths.filter((p) => p.startsWith('["summary","bootstrap","results",') && p.endsWith(',"choseSource"]')).length).toBe(s.participants.length);
   });
 
   it('keeps the predictive Q–Q plots as figures and rewrites the same page with `lossprobe report`', () => {

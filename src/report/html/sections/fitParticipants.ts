@@ -27,12 +27,18 @@ export const fitParticipants: Section = {
   applies: isFitFolder,
   render(ctx) {
     const f = fitOf(ctx.data);
+    const boot = f.bootstrap?.results ?? [];
+    // With --bootstrap: how often data simulated from the participant's best model chose it again.
+    const bootCell = (participant: string, best: string | null) => {
+      const k = boot.findIndex((b) => b.participant === participant && b.source === best);
+      return k < 0 ? '–' : `${ctx.num(['summary', 'bootstrap', 'results', k, 'choseSource'], 'percent')}`;
+    };
     const crit = escapeHtml(criterionName(f.criterion));
     const blocks = f.participants.map((p, i) => {
       const base = [...PARTICIPANTS, i];
       const decision = p.decision === 'undecided' ? `<strong class="note">undecided</strong> <span class="muted">(${p.contenders.map((c) => ctx.name(c)).join(', ')})</span>` : p.decision === 'failed' ? `<span class="note">failed</span>` : `<strong>${ctx.name(p.decision)}</strong>`;
       const n = Math.max(1, p.models.length);
-      const head = `<th scope="rowgroup" rowspan="${n}">${ctx.name(p.participant)}</th><td rowspan="${n}">${ctx.num([...base, 'trials'], 'count')}</td><td rowspan="${n}">${decision}</td>`;
+      const head = `<th scope="rowgroup" rowspan="${n}">${ctx.name(p.participant)}</th><td rowspan="${n}">${ctx.num([...base, 'trials'], 'count')}</td><td rowspan="${n}">${decision}</td>${boot.length ? `<td rowspan="${n}">${bootCell(p.participant, p.best)}</td>` : ''}`;
       if (!p.models.length) return `<tr class="group">${head}<td colspan="5">${p.error ? ctx.text([...base, 'error']) : 'no fit'}</td></tr>`;
       return p.models
         .map((m, j) => {
@@ -44,9 +50,9 @@ export const fitParticipants: Section = {
         })
         .join('\n');
     });
-    return `<p class="how">For every participant, every candidate model: the maximised log-likelihood, the ${crit} difference to the best model (zero for the best; larger is worse, in deviance units: twice the log-likelihood), the model's Akaike or Schwarz weight (its share of the evidence among the candidates) and the fitted parameters with 95% intervals. A participant is undecided when more than one model lies within the decision margin of the best; those models are listed.</p>
+    return `<p class="how">For every participant, every candidate model: the maximised log-likelihood, the ${crit} difference to the best model (zero for the best; larger is worse, in deviance units: twice the log-likelihood), the model's Akaike or Schwarz weight (its share of the evidence among the candidates) and the fitted parameters with 95% intervals. A participant is undecided when more than one model lies within the decision margin of the best; those models are listed.${boot.length ? ' With a bootstrap, datasets simulated from each participant\'s best model at its fitted parameters were refitted: the column gives how often that model was chosen again.' : ''}</p>
 <div class="table-wrap"><table class="data fit-participants-table">
-<thead><tr><th>participant</th><th>trials</th><th>decision</th><th>model</th><th>log-likelihood</th><th>Δ ${crit}</th><th>weight</th><th>parameters [95% interval]</th></tr></thead>
+<thead><tr><th>participant</th><th>trials</th><th>decision</th>${boot.length ? '<th>bootstrap: same choice</th>' : ''}<th>model</th><th>log-likelihood</th><th>Δ ${crit}</th><th>weight</th><th>parameters [95% interval]</th></tr></thead>
 <tbody>
 ${blocks.join('\n')}
 </tbody></table></div>`;
