@@ -31,7 +31,7 @@ export const fitParticipants: Section = {
     // With --bootstrap: how often data simulated from the participant's best model chose it again.
     const bootCell = (participant: string, best: string | null) => {
       const k = boot.findIndex((b) => b.participant === participant && b.source === best);
-      return k < 0 ? '–' : `${ctx.num(['summary', 'bootstrap', 'results', k, 'choseSource'], 'percent')}`;
+      return k < 0 ? '–' : `${ctx.num(['summary', 'bootstrap', 'results', k, 'choseSource'], 'percent')} <span class="ci">of ${ctx.num(['summary', 'bootstrap', 'results', k, 'replicates'], 'count')}</span>`;
     };
     const crit = escapeHtml(criterionName(f.criterion));
     const blocks = f.participants.map((p, i) => {
