@@ -75,6 +75,87 @@ describe('the one number formatter', () => {
   });
 });
 
+describe('report of a fit (real participants\' data)', () => {
+  // export → fit --recovery --bootstrap 1 on the tiny study: about 15 s. The temp folders are removed by the next block's afterAll (removeTemp clears them all; the reference run is shared).
+  let fit: string;
+  beforeAll(() => {
+    const root = tempDir();
+    const e = lossprobe(['export', TINY, '--out', join(root, 'export'), '--quiet']);
+    if (e.status !== 0) throw new Error(`export failed: ${e.stderr}`);
+    fit = join(root, 'fit');
+    const f = lossprobe(['fit', TINY, '--data', join(root, 'export', 'data.csv'), '--recovery', referenceRun().folder, '--bootstrap', '1', '--out', fit, '--quiet', '--workers', '2']);
+    if (f.status !== 0) throw new Error(`fit failed: ${f.stderr}`);
+  }, 240_000);
+
+  it('is written by fit with its own sections; the recovery-study sections do not apply', () => {
+    const html = reportHtml(fit);
+    const ids = [...html.matchAll(/<section id="([^"]+)"/g)].map((m) => m[1]);
+    expect(ids).toEqual(['fit-group', 'cautions', 'fit-participants', 'fit-recovery', 'fit-predictive', 'methods', 'files']);
+    expect(html).toContain('Model comparison on participants');
+    expect(html).not.toMatch(/synthetic datasets were best fitted|confusion/i);
+  });
+
+  it('shows every number as its raw value through the one formatter', () => {
+    // Citations of the published methods are fixed wording, not data.
+    const html = reportHtml(fit).split('Stephan et al. 2009').join(' ').split('Rigoux et al. 2014').join(' ');
+    const data = embeddedData(html);
+    expect(data.summary).toEqual(readJson(join(fit, 'summary.json')));
+    expect(data.scenario).toEqual(readJson(join(fit, 'scenario.json')));
+    expect(html).not.toContain('section-failed');
+    const s = readJson<any>(join(fit, 'summary.json'));
+    // Each participant: trials, and per model log-likelihood, Δ, weight and every parameter with its interval.
+    const perParticipant = s.participants.map((p: any) => 1 + p.models.reduce((n: number, m: any) => n + 3 + 3 * m.parameters.length, 0));
+    expect(checkSpans(html)).toBeGreaterThan(perParticipant.reduce((a: number, b: number) => a + b, 0));
+    const paths = numberSpans(html).map((x) => JSON.stringify(x.path));
+    expect(paths).toContain(JSON.stringify(['summary', 'group', 'randomEffects', 'protectedExceedanceProbability', 0]));
+    expect(paths).toContain(JSON.stringify(['summary', 'participants', 0, 'models', 0, 'parameters', 0, 'upper95']));
+    expect(paths).toContain(JSON.stringify(['summary', 'againstRecovery', 'participants', 0, 'choiceRightInSimulation']));
+    // --bootstrap: one cell per participant, the replicates simulated from their best model.
+    expect(paths.filter((p) => p.startsWith('["summary","bootstrap","results",') && p.endsWith(',"choseSource"]')).length).toBe(s.participants.length);
+  });
+
+  it('keeps the predictive Q–Q plots as figures and rewrites the same page with `lossprobe report`', () => {
+    const s = readJson<any>(join(fit, 'summary.json'));
+    const files = readdirSync(join(fit, 'figures')).sort();
+    expect(files).toEqual(s.participants.map((p: any) => `predictive-${p.participant}.svg`).sort());
+    const html = reportHtml(fit);
+    for (const f of files) expect(html).toContain(`data-file="${f}"`);
+    const copy = join(tempDir(), 'fit-again');
+    copyRun(fit, copy);
+    const r = lossprobe(['report', copy]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(reportHtml(copy)).toBe(html);
+  });
+
+  it('writes a methods paragraph for the fit: data, participants, trials, models, criterion, evidence, seed, hashes', () => {
+    const text = methodsText(reportHtml(fit));
+    const s = readJson<any>(join(fit, 'summary.json'));
+    for (const m of TINY_MODELS) expect(text).toContain(m);
+    expect(text).toContain(`${s.group.participants} participants (${s.participants[0].trials} trials each`);
+    expect(text).toContain(s.dataFile);
+    expect(text).toContain('BIC');
+    expect(text).toContain('minus half the BIC');
+    expect(text).toContain(`scenario seed ${TINY_SEED}`);
+    expect(text).toContain(s.provenance.scenarioHash);
+    expect(text).toContain(s.provenance.fitHash);
+  });
+
+  it('shows the group warnings prominently when the models cannot be told apart', () => {
+    const copy = join(tempDir(), 'fit-warned');
+    copyRun(fit, copy);
+    const path = join(copy, 'summary.json');
+    const s = readJson<any>(path);
+    s.group.warnings = ['squared and absolute cannot be told apart here'];
+    writeFileSync(path, JSON.stringify(s, null, 2));
+    expect(lossprobe(['report', copy]).status).toBe(0);
+    const html = reportHtml(copy);
+    const group = html.slice(html.indexOf('<section id="fit-group">'));
+    expect(group.indexOf('fit-warnings')).toBeGreaterThan(0);
+    expect(group.indexOf('fit-warnings')).toBeLessThan(group.indexOf('<table'));
+    expect(group).toContain('squared and absolute cannot be told apart here');
+  });
+});
+
 describe('report of a recovery study', () => {
   let folder: string;
   let sweep: string;

@@ -27,7 +27,7 @@ import { bootstrapCsv, drawFileCsv, groupCsv, modelFitsCsv, parameterEstimatesCs
 import { SUMMARY_VERSION } from '../report/studyOutputs.js';
 import { figureName, predictiveFigure } from '../report/fitFigures.js';
 import { writeFolderAtomically } from '../report/writeFolder.js';
-import { prepareRunFolder, workerCount, writeAtomically, type RunFlags } from './run.js';
+import { prepareRunFolder, workerCount, writeAtomically, writeReportOrWarn, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 
 export interface FitFlags extends Pick<RunFlags, 'workers' | 'out' | 'resume' | 'overwrite' | 'json' | 'quiet'> {
@@ -284,6 +284,8 @@ export async function finishFit(o: {
     const chosen = drawIds ? summaries.filter((p) => drawIds.includes(p.participant)) : summaries;
     writeAtomically(flags.drawsOut, drawFileCsv(chosen));
   }
+  // As for run: a report that cannot be drawn warns and leaves the fit intact (it rewrites figures/, predictive plots included).
+  await writeReportOrWarn(folder);
   if (flags.json) process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
   else printFit(summaries, group, againstRecovery, bootstrap, recovery ? recoveryNote(recovery, study) : null, folder);
 }
@@ -320,5 +322,5 @@ function printFit(ps: ReturnType<typeof participantSummary>[], g: ReturnType<typ
   for (const w of g.warnings) console.log(`Warning: ${w}`);
   if (recNote) console.log(`Recovery study: ${recNote}.`);
   console.log(`\n${CAUTION}`);
-  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv, figures/predictive-*.svg)`);
+  console.log(`Run folder: ${folder}/ (summary.json, jobs.jsonl, model-fits.csv, parameter-estimates.csv, participants.csv, group.csv, predictive-checks.csv, figures/predictive-*.svg, report.html)`);
 }

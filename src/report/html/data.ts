@@ -82,7 +82,14 @@ function readLines(path: string): JobLine[] {
   return out.sort((a, b) => compareJobKeys(a.key, b.key));
 }
 
+/** A folder written by `lossprobe fit` (real participants' data), not by a recovery study. */
+export const isFitFolder = (d: { summary: ReportSummary }) => d.summary.kind === 'fit';
+
+/** Sections about simulated recovery apply only to recovery-study folders. */
+export const isRecoveryFolder = (d: { summary: ReportSummary }) => !isFitFolder(d);
+
 export function trialCountsOf(summary: ReportSummary): number[] {
+  if (!summary.overall) return [];
   return summary.byTrials ? Object.keys(summary.byTrials).map(Number).sort((a, b) => a - b) : summary.overall.trials.filter((t): t is number => t !== null);
 }
 
@@ -90,8 +97,9 @@ export function readRunFolder(folder: string): ReportData {
   if (!existsSync(folder)) throw new UserError(`run folder ${folder} does not exist`);
   const summary = readJsonFile<ReportSummary>(join(folder, 'summary.json'), 'a report needs the summary written at the end of `lossprobe run` (finish or --resume the run first)');
   const scenario = readJsonFile<ScenarioRecord>(join(folder, 'scenario.json'), 'a report needs the resolved scenario of the run');
-  if (typeof summary !== 'object' || !summary || !summary.overall || !Array.isArray(summary.models))
-    throw new UserError(`${join(folder, 'summary.json')}: expected a lossprobe summary with 'models' and 'overall'`);
+  const fit = typeof summary === 'object' && summary !== null && summary.kind === 'fit';
+  if (typeof summary !== 'object' || !summary || !Array.isArray(summary.models) || (fit ? !Array.isArray(summary.participants) || !summary.group : !summary.overall))
+    throw new UserError(`${join(folder, 'summary.json')}: expected a lossprobe summary with 'models' and 'overall' (a recovery study) or 'participants' and 'group' (a fit)`);
   if (typeof scenario !== 'object' || !scenario || typeof scenario.hash !== 'string' || !scenario.scenario)
     throw new UserError(`${join(folder, 'scenario.json')}: expected {hash, scenario} as written by lossprobe run`);
   const counts = trialCountsOf(summary);

@@ -37,6 +37,9 @@ section { background: var(--card); border: 1px solid var(--rule); border-radius:
 #cautions li { margin-bottom: 7px; }
 .figs { display: flex; flex-wrap: wrap; gap: 18px 28px; align-items: flex-start; }
 .fig { margin: 0; max-width: 100%; }
+#fit-predictive .fig { max-width: calc(50% - 14px); }
+@media (max-width: 860px) { #fit-predictive .fig { max-width: 100%; } }
+.fit-warnings { font-size: 15px; }
 .table-wrap + .figs { margin-top: 22px; }
 .fig .svg svg { max-width: 100%; height: auto; display: block; }
 .fig figcaption { font-size: 13px; color: var(--muted); margin-top: 6px; min-width: 280px; }

@@ -1,11 +1,12 @@
 /** What a simulation can and cannot promise; always shown, next to the headline. */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 
 export const cautions: Section = {
   id: 'cautions',
   title: 'Read this before citing the numbers',
   width: 'half',
-  applies: () => true,
+  applies: isRecoveryFolder,
   render(ctx) {
     const obs = ctx.num(['scenario', 'scenario', 'generate', 'observers'], 'count');
     return `<ul>

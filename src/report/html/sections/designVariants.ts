@@ -4,13 +4,14 @@
  * designs): overall recovery per variant and their confusion matrices.
  */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import { slug } from '../context.js';
 import { confusionFigure } from './modelRecovery.js';
 
 export const designVariants: Section = {
   id: 'variants',
   title: 'Design variants side by side',
-  applies: (d) => Array.isArray(d.summary.variants) && d.summary.variants.length > 0,
+  applies: (d) => isRecoveryFolder(d) && Array.isArray(d.summary.variants) && d.summary.variants.length > 0,
   async render(ctx) {
     const variants = ctx.data.summary.variants!;
     const rows = variants.map((v, k) => {

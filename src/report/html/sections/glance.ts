@@ -1,5 +1,6 @@
 /** The headline: how often the truth came back, and one sentence per generating model. */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import { focusOf } from '../focus.js';
 import { rowSentence, separationStatement, weakRows } from '../sentences.js';
 
@@ -7,7 +8,7 @@ export const glance: Section = {
   id: 'glance',
   title: 'At a glance',
   width: 'half',
-  applies: () => true,
+  applies: isRecoveryFolder,
   render(ctx) {
     const f = focusOf(ctx);
     const a = [...f.path, 'accuracy'];

@@ -1,10 +1,11 @@
 /** Title block: what was studied and how to trace it (seed, scenario hash, versions). */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 
 export const header: Section = {
   id: 'top',
   title: '',
-  applies: () => true,
+  applies: isRecoveryFolder,
   render(ctx) {
     const s = ctx.data.summary;
     const sc = ctx.data.scenario.scenario;

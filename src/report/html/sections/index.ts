@@ -17,5 +17,15 @@ import { observerPreview } from './observerPreview.js';
 import { methods } from './methods.js';
 import { about } from './about.js';
 import { groupPlan } from './groupPlan.js';
+import { fitHeader } from './fitHeader.js';
+import { fitCautions } from './fitCautions.js';
+import { fitGroup } from './fitGroup.js';
+import { fitParticipants } from './fitParticipants.js';
+import { fitRecovery } from './fitRecovery.js';
+import { fitPredictive } from './fitPredictive.js';
+import { fitMethods } from './fitMethods.js';
+import { fitFiles } from './fitFiles.js';
 
-export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, sizingSection, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about];
+export const SECTIONS: readonly Section[] = [header, glance, cautions, groupPlan, modelRecovery, trialSweep, sizingSection, designVariants, parameterRecovery, tradeoffs, observerPreview, methods, about,
+  // A fit folder (lossprobe fit): the recovery sections above do not apply to it.
+  fitHeader, fitGroup, fitCautions, fitParticipants, fitRecovery, fitPredictive, fitMethods, fitFiles];

@@ -10,7 +10,7 @@ import type { ReportContext } from '../context.js';
 import { focusOf } from '../focus.js';
 import { design, draw, LOSS_WORDS, params, SC } from '../scenarioWords.js';
 import { listNames, rowSentence, separationStatement } from '../sentences.js';
-import { trialCountsOf } from '../data.js';
+import { trialCountsOf, isRecoveryFolder } from '../data.js';
 
 const CRITERION_WORDS: Record<string, string> = {
   aic: 'the lowest Akaike information criterion (AIC)',
@@ -105,7 +105,7 @@ function reproduce(ctx: ReportContext): string {
 export const methods: Section = {
   id: 'methods',
   title: 'Methods paragraph',
-  applies: () => true,
+  applies: isRecoveryFolder,
   render(ctx) {
     const crit = ctx.data.summary.criterion.toUpperCase();
     return `<p class="how">Generated from the scenario and the results; edit freely. Every number below is also in <code>summary.json</code> or <code>scenario.json</code>.</p>

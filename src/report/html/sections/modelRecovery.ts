@@ -4,6 +4,7 @@
  * chosen)) as heatmaps with the numbers in the cells.
  */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import type { ReportContext } from '../context.js';
 import { focusOf, type Focus } from '../focus.js';
 import { formatNumber } from '../../format.js';
@@ -61,7 +62,7 @@ function tieList(ctx: ReportContext, f: Focus): string {
 export const modelRecovery: Section = {
   id: 'model-recovery',
   title: 'Model recovery',
-  applies: (d) => d.summary.overall.confusion.rows.length > 0,
+  applies: (d) => isRecoveryFolder(d) && d.summary.overall.confusion.rows.length > 0,
   async render(ctx) {
     const f = focusOf(ctx);
     const crit = ctx.data.summary.criterion.toUpperCase();

@@ -4,6 +4,7 @@
  * scenario's own parameter values.
  */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import { previewScenario } from '../../../cli/preview.js';
 import { scenarioSchema } from '../../../scenario/schema.js';
 import { validate } from '../../../scenario/load.js';
@@ -12,7 +13,7 @@ import { escapeHtml, type ReportContext } from '../context.js';
 export const observerPreview: Section = {
   id: 'observer',
   title: 'The candidate observers',
-  applies: () => true,
+  applies: isRecoveryFolder,
   async render(ctx) {
     let files: Record<string, string>;
     try {

@@ -4,6 +4,7 @@
  * then the full table (bias, RMSE, interval coverage).
  */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import { slug } from '../context.js';
 import { focusOf } from '../focus.js';
 import { formatNumber } from '../../format.js';
@@ -12,7 +13,7 @@ import { recoveryScatter, type RecoveryDot } from '../../figures/recoveryScatter
 export const parameterRecovery: Section = {
   id: 'parameter-recovery',
   title: 'Parameter recovery',
-  applies: (d) => d.summary.overall.recovery.some((m) => m.parameters.some((p) => (p.n ?? 0) > 0)),
+  applies: (d) => isRecoveryFolder(d) && d.summary.overall.recovery.some((m) => m.parameters.some((p) => (p.n ?? 0) > 0)),
   async render(ctx) {
     const f = focusOf(ctx);
     const rec = f.summary.recovery;

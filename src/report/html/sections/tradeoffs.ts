@@ -5,6 +5,7 @@
  * another.
  */
 import type { Section } from '../section.js';
+import { isRecoveryFolder } from '../data.js';
 import { slug } from '../context.js';
 import { focusOf } from '../focus.js';
 import { formatNumber } from '../../format.js';
@@ -13,7 +14,7 @@ import { heatmap, type HeatCell } from '../../figures/heatmap.js';
 export const tradeoffs: Section = {
   id: 'tradeoffs',
   title: 'Parameter trade-offs',
-  applies: (d) => d.summary.overall.tradeoffs.some((t) => t.parameters.length > 1),
+  applies: (d) => isRecoveryFolder(d) && d.summary.overall.tradeoffs.some((t) => t.parameters.length > 1),
   async render(ctx) {
     const f = focusOf(ctx);
     const figs: string[] = [];

@@ -6,12 +6,12 @@
 import type { Section } from '../section.js';
 import { formatNumber } from '../../format.js';
 import { ALL_MODELS as ALL, trialCurves, type CurvePoint } from '../../figures/trialCurves.js';
-import { trialCountsOf } from '../data.js';
+import { trialCountsOf, isRecoveryFolder } from '../data.js';
 
 export const trialSweep: Section = {
   id: 'trial-sweep',
   title: 'Trials needed',
-  applies: (d) => !!d.summary.byTrials && Object.keys(d.summary.byTrials).length > 1,
+  applies: (d) => isRecoveryFolder(d) && !!d.summary.byTrials && Object.keys(d.summary.byTrials).length > 1,
   async render(ctx) {
     const byTrials = ctx.data.summary.byTrials!;
     const counts = trialCountsOf(ctx.data.summary);
