@@ -29,7 +29,7 @@ async function main(argv: string[]): Promise<void> {
     .exitOverride();
   program
     .command('preview')
-    .description('tabulate and plot the Bayes estimate of each candidate loss for a prior and sensory noise')
+    .description('before simulating: each loss\'s estimates, which models the design can tell apart, predicted standard errors and accuracy by trial count')
     .argument('[scenario]', 'scenario file (YAML or JSON); or describe the observer with the flags below')
     .option('--prior <family:params>', 'prior, e.g. gamma:shape=3,scale=6')
     .option('--noise <family:params>', 'sensory noise of a condition (repeatable), e.g. scalar:weber=0.15', collect)
@@ -40,6 +40,26 @@ async function main(argv: string[]): Promise<void> {
     .option('--target <p>', 'accuracy the predicted trial counts aim for (default 0.8)')
     .option('--no-analytic', 'skip distinguishability, Fisher information and predicted accuracy')
     .action(async (file: string | undefined, opts) => printPreview(await runPreview(file, opts)));
+  program
+    .command('size')
+    .description('trial-count sweep: how many trials each generating model needs to be recovered, with adaptive effort')
+    .argument('<scenario>', 'scenario file (YAML or JSON); its variants are sized too')
+    .option('--trials <list>', 'trial counts: a list 60,120,240 or a range 60:480:60 (default: the scenario\'s list)')
+    .option('--target <p>', 'accuracy (or parameter success share) to reach, default 0.8')
+    .option('--observers <n>', 'initial synthetic observers per point (default: the scenario\'s generate.observers)')
+    .option('--max-observers <n>', 'cap on observers per point (default 4 × initial)')
+    .option('--batch <n>', 'observers added to an undecided point per round (default: the initial number)')
+    .option('--parameter <name>', 'also size for a parameter, e.g. loss.exponent (with --exclude or --width)')
+    .option('--exclude <value>', 'success: the parameter\'s 95% interval excludes this value')
+    .option('--width <w>', 'success: the parameter\'s 95% interval is at most this wide')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--workers <w>', 'worker threads (default: all cores)')
+    .option('--out <folder>', 'run folder (default results/<name>-size)')
+    .option('--resume', 'continue an interrupted sweep')
+    .option('--overwrite', 'replace an existing run folder')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .option('--quiet', 'no progress output')
+    .action(async (file: string, opts) => sizeCommand(file, opts, version));
   program
     .command('run')
     .description('recovery study: simulate synthetic observers, refit every candidate, report how often the truth comes back')
@@ -73,53 +93,6 @@ async function main(argv: string[]): Promise<void> {
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
     .action(async (file: string, opts) => planCommand(file, opts, version));
-  program
-    .command('merge')
-    .description('join the shard folders of a study (run --shard K/N) into one run folder, as a single-machine run')
-    .argument('<shards...>', 'shard folders (or a run folder holding them)')
-    .requiredOption('--out <folder>', 'run folder to write the merged run into')
-    .option('--json', 'print summary.json to standard output instead of tables')
-    .action(async (folders: string[], opts) => mergeCommand(folders, opts, version));
-  program
-    .command('cluster')
-    .description('write Slurm scripts that run a study as an array job of N shards plus a dependent merge job')
-    .argument('<scenario>', 'scenario file (YAML or JSON)')
-    .requiredOption('--shards <n>', 'number of shards, one array task each')
-    .option('--partition <p>', 'Slurm partition (default: the cluster\'s default)')
-    .option('--account <a>', 'Slurm account to charge (where the cluster requires one)')
-    .option('--time <t>', 'time limit per array task, e.g. 90 (minutes), 02:00:00 or 1-00:00:00', '02:00:00')
-    .option('--cpus <c>', 'cores per array task; each is a worker', '4')
-    .option('--out <folder>', 'run folder on the cluster (default results/<name>); scripts go to <out>/slurm')
-    .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
-    .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
-    .option('--seed <s>', 'master seed (overrides the scenario)')
-    .option('--fit-data <file>', "shard `fit` of this participants' CSV (one job per participant) instead of a recovery study")
-    .action((file: string, opts) => clusterCommand(file, opts, version));
-  program
-    .command('size')
-    .description('trial-count sweep: how many trials each generating model needs to be recovered, with adaptive effort')
-    .argument('<scenario>', 'scenario file (YAML or JSON); its variants are sized too')
-    .option('--trials <list>', 'trial counts: a list 60,120,240 or a range 60:480:60 (default: the scenario\'s list)')
-    .option('--target <p>', 'accuracy (or parameter success share) to reach, default 0.8')
-    .option('--observers <n>', 'initial synthetic observers per point (default: the scenario\'s generate.observers)')
-    .option('--max-observers <n>', 'cap on observers per point (default 4 × initial)')
-    .option('--batch <n>', 'observers added to an undecided point per round (default: the initial number)')
-    .option('--parameter <name>', 'also size for a parameter, e.g. loss.exponent (with --exclude or --width)')
-    .option('--exclude <value>', 'success: the parameter\'s 95% interval excludes this value')
-    .option('--width <w>', 'success: the parameter\'s 95% interval is at most this wide')
-    .option('--seed <s>', 'master seed (overrides the scenario)')
-    .option('--workers <w>', 'worker threads (default: all cores)')
-    .option('--out <folder>', 'run folder (default results/<name>-size)')
-    .option('--resume', 'continue an interrupted sweep')
-    .option('--overwrite', 'replace an existing run folder')
-    .option('--json', 'print summary.json to standard output instead of tables')
-    .option('--quiet', 'no progress output')
-    .action(async (file: string, opts) => sizeCommand(file, opts, version));
-  program
-    .command('report')
-    .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')
-    .argument('<folder>', 'run folder (holds summary.json and scenario.json)')
-    .action(async (folder: string) => reportCommand(folder));
   program
     .command('fit')
     .description("fit every candidate model to every participant's data; per-participant comparison and random-effects model selection")
@@ -163,6 +136,33 @@ async function main(argv: string[]): Promise<void> {
     .option('--overwrite', 'replace an existing run folder')
     .option('--json', 'print summary.json to standard output instead of tables')
     .action(async (truth: string, opts) => gradeCommand(truth, opts, version));
+  program
+    .command('report')
+    .description('write report.html (figures, methods paragraph, cautions) and figures/*.svg for a run folder')
+    .argument('<folder>', 'run folder (holds summary.json and scenario.json)')
+    .action(async (folder: string) => reportCommand(folder));
+  program
+    .command('cluster')
+    .description('write Slurm scripts that run a study as an array job of N shards plus a dependent merge job')
+    .argument('<scenario>', 'scenario file (YAML or JSON)')
+    .requiredOption('--shards <n>', 'number of shards, one array task each')
+    .option('--partition <p>', 'Slurm partition (default: the cluster\'s default)')
+    .option('--account <a>', 'Slurm account to charge (where the cluster requires one)')
+    .option('--time <t>', 'time limit per array task, e.g. 90 (minutes), 02:00:00 or 1-00:00:00', '02:00:00')
+    .option('--cpus <c>', 'cores per array task; each is a worker', '4')
+    .option('--out <folder>', 'run folder on the cluster (default results/<name>); scripts go to <out>/slurm')
+    .option('--observers <n>', 'synthetic observers per generating model (overrides the scenario)')
+    .option('--trials <list>', 'trials per observer: a number, a list 60,120,240 or a range 60:480:60')
+    .option('--seed <s>', 'master seed (overrides the scenario)')
+    .option('--fit-data <file>', "shard `fit` of this participants' CSV (one job per participant) instead of a recovery study")
+    .action((file: string, opts) => clusterCommand(file, opts, version));
+  program
+    .command('merge')
+    .description('join the shard folders of a study (run, fit or plan with --shard K/N) into one folder, as a single-machine run')
+    .argument('<shards...>', 'shard folders (or a run folder holding them)')
+    .requiredOption('--out <folder>', 'run folder to write the merged run into')
+    .option('--json', 'print summary.json to standard output instead of tables')
+    .action(async (folders: string[], opts) => mergeCommand(folders, opts, version));
   await program.parseAsync(argv);
 }
 
