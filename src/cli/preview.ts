@@ -73,9 +73,11 @@ export interface PreviewResult {
   designs: DesignPreview[];
 }
 
-function pretty(x: number): string {
+/** `roundOff`: magnitudes below it are floating-point residue of a zero (e.g. the centre of a symmetric prior), shown as 0. */
+function pretty(x: number, roundOff = 0): string {
   if (!Number.isFinite(x)) return String(x);
   const a = Math.abs(x);
+  if (a < roundOff) return '0';
   return a !== 0 && (a < 1e-3 || a >= 1e5) ? x.toExponential(3) : x.toFixed(a < 1 ? 4 : a < 100 ? 3 : 1);
 }
 
@@ -171,7 +173,8 @@ export function printPreview(r: PreviewResult): void {
   console.log(`Preview of '${s.name}': Bayes estimate at selected measurements (stimulus units)\n`);
   for (let c = 0; c < s.conditions.length; c++) {
     const table = new Table({ head: [`${s.conditions[c].name}: measurement`, ...s.models.map((m) => m.name)], style: { head: [], border: [] }, chars: { mid: '', 'left-mid': '', 'mid-mid': '', 'right-mid': '' } });
-    r.measurements.forEach((m, i) => table.push([pretty(m), ...s.models.map((_, k) => pretty(r.estimates[c][k][i]))]));
+    const roundOff = 1e-12 * (s.response.upper - s.response.lower);
+    r.measurements.forEach((m, i) => table.push([pretty(m, roundOff), ...s.models.map((_, k) => pretty(r.estimates[c][k][i], roundOff))]));
     console.log(table.toString());
   }
   // Say plainly when candidates agree everywhere: the design then cannot tell them apart.
