@@ -59,6 +59,8 @@ async function main(argv: string[]): Promise<void> {
     .option('--overwrite', 'replace an existing run folder')
     .option('--json', 'print summary.json to standard output instead of tables')
     .option('--quiet', 'no progress output')
+    .option('--shard <K/N>', 'run only shard K of N of one round, into <out>/round-R/shard-K-of-N (join the round with merge)')
+    .option('--round-plan <file>', 'with --shard: run the later round whose plan merge wrote (<out>/round-R/plan.json); it fixes the settings')
     .action(async (file: string, opts) => sizeCommand(file, opts, version));
   program
     .command('run')

@@ -7,11 +7,17 @@
 import Table from 'cli-table3';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
-import { join } from 'node:path';
-import { applyOverrides, resolveStudy, type ResolvedStudy } from '../engine/resolve.js';
+import { join, resolve as resolvePath } from 'node:path';
+import type { JobLine } from '../analysis/types.js';
+import { applyOverrides, resolveStudy } from '../engine/resolve.js';
 import { adaptiveSweep } from '../engine/adaptiveSweep.js';
+import { sizingRule, type Replay, type RoundPlan, type SweepDesign, type SweepSettings } from '../engine/sizeRounds.js';
+import { designFolderInRun } from '../engine/sizeShards.js';
+import { readRoundPlan, type RoundPlanFile } from '../engine/roundPlanFile.js';
+import { sweepRecord, writeSweepRecord, type SweepRecord } from '../engine/sweepRecord.js';
 import { readScenario, designVariants } from '../scenario/variants.js';
-import { sizing, type Sizing, type ParameterTarget } from '../analysis/sizing.js';
+import type { Scenario } from '../scenario/schema.js';
+import { sizing, type Sizing, type ParameterTarget, type SizingRule } from '../analysis/sizing.js';
 import { studySummary, type StudySummary } from '../report/studyOutputs.js';
 import { sizingCsv, sizingFigure, sizingNeededCsv, sizingDesignsCsv, type SizedDesign } from '../report/sizingOutputs.js';
 import { jsonSafe } from '../analysis/jsonSafe.js';
@@ -19,6 +25,7 @@ import { analyticPreview } from '../design/analyticPreview.js';
 import { openRunFolder, parseTrials, positiveInt, removeRunFolder, writeAtomically, writeStudyOutputs, type RunFlags } from './run.js';
 import { UserError } from './userError.js';
 import { writeReport } from '../report/html/writeReport.js';
+import { sizeShard } from './sizeRound.js';
 
 export interface SizeFlags extends RunFlags {
   target?: string;
@@ -27,6 +34,8 @@ export interface SizeFlags extends RunFlags {
   parameter?: string;
   exclude?: string;
   width?: string;
+  /** A later round's plan file (written by merge); with --shard. */
+  roundPlan?: string;
 }
 
 function proportionFlag(flag: string, v: string | undefined, fallback: number): number {
@@ -47,9 +56,12 @@ function parameterFlags(f: SizeFlags): ParameterTarget | undefined {
   return f.exclude !== undefined ? { name: f.parameter, exclude: v } : { name: f.parameter, width: v };
 }
 
-export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: string): Promise<void> {
-  if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
-  const base = readScenario(file);
+/** The sweep's flags that are not settings of the sweep itself (a round plan fixes the latter). */
+const SETTING_FLAGS = ['trials', 'observers', 'maxObservers', 'batch', 'target', 'seed', 'parameter', 'exclude', 'width'] as const;
+const flagName = (k: string) => `--${k.replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}`;
+
+/** The sweep's settings from the flags (and the scenario's defaults). */
+function settingsFromFlags(base: Scenario, flags: SizeFlags): SweepSettings {
   const target = proportionFlag('target', flags.target, 0.8);
   const trials = parseTrials(flags.trials) ?? (Array.isArray(base.trials) ? base.trials : undefined);
   if (!trials || new Set(trials).size < 2) throw new UserError('size needs at least two trial counts: give --trials as a list (60,120,240) or a range (60:480:60), or a list under trials: in the scenario');
@@ -57,40 +69,101 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
   const max = positiveInt('max-observers', flags.maxObservers, 100000) ?? 4 * initial;
   if (max < initial) throw new UserError(`--max-observers (${max}) must be at least the initial --observers (${initial})`);
   const batch = positiveInt('batch', flags.batch) ?? initial;
-  const workers = positiveInt('workers', flags.workers, 256);
-  const seed = flags.seed === undefined ? undefined : Number(flags.seed);
-  if (seed !== undefined && (!Number.isInteger(seed) || seed < 0)) throw new UserError(`--seed expects a whole number ≥ 0 (got '${flags.seed}')`);
-  const parameter = parameterFlags(flags);
-  const root = flags.out ?? join('results', `${base.name}-size`);
-  // Resolve every design before touching any folder: a bad variant must not leave half a sweep behind.
+  const seed = flags.seed === undefined ? null : Number(flags.seed);
+  if (seed !== null && (!Number.isInteger(seed) || seed < 0)) throw new UserError(`--seed expects a whole number ≥ 0 (got '${flags.seed}')`);
+  const parameter = parameterFlags(flags) ?? null;
+  return { trials, initial, batch, max, target, alpha: 0.05, seed, parameter };
+}
+
+export interface Sweep {
+  designs: SweepDesign[];
+  settings: SweepSettings;
+  record: SweepRecord;
+  /** With --round-plan: the round it holds. */
+  plan: RoundPlan | null;
+}
+
+/**
+ * The sweep the command line describes: its settings (from the flags, or from
+ * the --round-plan file of a later round) and every design resolved, before
+ * any folder is touched, so a bad variant leaves nothing half-written.
+ */
+export function sweepFromFlags(file: string, flags: SizeFlags): Sweep {
+  const base = readScenario(file);
+  let settings: SweepSettings;
+  let plan: RoundPlan | null = null;
+  let planFile: RoundPlanFile | null = null;
+  if (flags.roundPlan !== undefined) {
+    const given = SETTING_FLAGS.filter((k) => flags[k] !== undefined);
+    if (given.length) throw new UserError(`--round-plan ${flags.roundPlan} fixes the sweep's settings as round 1 ran them; drop ${given.map(flagName).join(', ')}`);
+    ({ file: planFile, plan } = readRoundPlan(flags.roundPlan));
+    settings = planFile.settings;
+  } else settings = settingsFromFlags(base, flags);
   const designs = designVariants(base, file).map(({ variant, scenario }) => {
     // The cap fixes the study (its hash); the rule decides how many observers each point uses.
-    const study = resolveStudy(applyOverrides(scenario, { observers: max, trials, seed }), variant === 'base' ? file : `${file} (variant '${variant}')`);
+    const study = resolveStudy(applyOverrides(scenario, { observers: settings.max, trials: settings.trials, seed: settings.seed ?? undefined }), variant === 'base' ? file : `${file} (variant '${variant}')`);
+    const parameter = settings.parameter;
     if (parameter && !study.candidates.some((c) => study.generating.includes(c.name) && c.free.some((p) => p.name === parameter.name)))
       throw new UserError(`--parameter ${parameter.name}: no generating model of ${variant === 'base' ? 'the scenario' : `variant '${variant}'`} fits a free parameter of that name`);
-    return { variant, study, folder: variant === 'base' ? root : join(root, 'variants', variant) };
+    return { variant, study };
   });
+  const record = sweepRecord(designs, settings, resolvePath(file));
+  if (planFile && planFile.sweepHash !== record.sweepHash)
+    throw new UserError(`--round-plan ${flags.roundPlan} belongs to another sweep: ${file} (or a file it reads) differs from the scenario round 1 ran${planFile.scenarioFile !== record.scenarioFile ? ` (${planFile.scenarioFile})` : ''}. Run every round with the same scenario file, unchanged.`);
+  return { designs, settings, record, plan };
+}
+
+export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: string): Promise<void> {
+  if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
+  if (flags.roundPlan !== undefined && flags.shard === undefined) throw new UserError('--round-plan runs one round of a sweep as shards; add --shard K/N (1/1 runs the whole round on this machine)');
+  const sweep = sweepFromFlags(file, flags);
+  const workers = positiveInt('workers', flags.workers, 256);
+  const root = flags.out ?? join('results', `${sweep.designs[0].study.scenario.name}-size`);
+  if (flags.shard !== undefined) return sizeShard(sweep, root, flags.shard, { ...flags, workers });
+  const folderOf = (variant: string) => designFolderInRun(root, variant);
   if (flags.overwrite) removeRunFolder(root);
+  for (const d of sweep.designs) openRunFolder(folderOf(d.variant), d.study, flags.resume ?? false);
+  const started = Date.now();
+  const quiet = flags.quiet || flags.json;
+  const onRound = quiet ? undefined : (round: number, jobs: number) => process.stderr.write(`${root}: round ${round}, ${jobs} job${jobs === 1 ? '' : 's'}\n`);
+  const out = await adaptiveSweep(sweep.designs, sweep.settings, folderOf, { workers, quiet, onRound });
+  if (out.interrupted) {
+    process.stderr.write(`lossprobe: interrupted; finished jobs are kept in ${root} (jobs.jsonl of each design). Continue with --resume.\n`);
+    process.exit(130);
+  }
+  writeSweepRecord(root, sweep.record);
+  const sized = await finishSweep({ root, sweep, replay: out.replay, toolVersion });
+  for (const d of sized)
+    writeFileSync(
+      join(d.folder, 'run-info.json'),
+      JSON.stringify({ host: hostname(), workers: workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: out.ran, jobsFailed: out.failed, rounds: d.sizing.rule.rounds, finished: new Date().toISOString() }, null, 2) + '\n',
+    );
+  printSweep(root, sized, flags.json ?? false);
+}
+
+/**
+ * The sweep's outputs from the replayed rule: per design summary.json (with
+ * `sizing`), CSV files, the figure and report.html; with variants, the
+ * side-by-side ranking in the base folder. The single-machine sweep and the
+ * merge of a cluster round end here alike, so their folders agree.
+ */
+export async function finishSweep(o: { root: string; sweep: Sweep; replay: Replay; toolVersion: string }): Promise<SizedDesign[]> {
   const sized: SizedDesign[] = [];
-  for (const d of designs) {
-    openRunFolder(d.folder, d.study, flags.resume ?? false);
-    const result = await sizeDesign(d.study, d.folder, { initial, max, batch, target, parameter, workers, quiet: flags.quiet || flags.json }, toolVersion);
-    if (!result) {
-      process.stderr.write(`lossprobe: interrupted; finished jobs are kept in ${d.folder}/jobs.jsonl. Continue with --resume.\n`);
-      process.exit(130);
-    }
-    sized.push({ variant: d.variant, folder: d.folder, sizing: result.sizing, overall: result.overall });
+  for (const d of o.sweep.designs) {
+    const folder = designFolderInRun(o.root, d.variant);
+    const result = await writeDesignOutputs(d, folder, o.replay.lines.get(d.variant)!, sizingRule(d, o.sweep.settings, o.replay.rounds.get(d.variant)!), o.sweep.settings, o.toolVersion);
+    sized.push({ variant: d.variant, folder, sizing: result.sizing, overall: result.overall });
   }
   const ranking = rankDesigns(sized);
   if (sized.length > 1) {
     // The base folder's summary also carries the side-by-side comparison.
-    const path = join(root, 'summary.json');
+    const path = join(o.root, 'summary.json');
     const summary = JSON.parse(readFileSync(path, 'utf8')) as { sizing: Sizing & { designs?: unknown }; variants?: unknown };
     summary.sizing.designs = ranking;
     // Each design's recovery summary over all its jobs, for side-by-side views (e.g. the HTML report).
     summary.variants = sized.map((d) => ({ name: d.variant, folder: d.folder, overall: d.overall }));
     writeAtomically(path, JSON.stringify(summary, null, 2) + '\n');
-    writeAtomically(join(root, 'sizing-designs.csv'), sizingDesignsCsv(ranking));
+    writeAtomically(join(o.root, 'sizing-designs.csv'), sizingDesignsCsv(ranking));
   }
   // The sweep's results are written; a report that fails must not turn a finished sweep into an error.
   for (const d of sized) {
@@ -101,53 +174,42 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
       process.stderr.write(`lossprobe: the report of ${d.folder} could not be written (${(e as Error).message}); retry with: lossprobe report ${d.folder}\n`);
     }
   }
-  if (flags.json) process.stdout.write(readFileSync(join(root, 'summary.json'), 'utf8'));
-  else printSizing(sized, ranking);
+  return sized;
 }
 
-interface DesignOptions {
-  initial: number;
-  max: number;
-  batch: number;
-  target: number;
-  parameter?: ParameterTarget;
-  workers?: number;
-  quiet?: boolean;
+/** Tables (or summary.json with --json) of a finished sweep. */
+export function printSweep(root: string, sized: SizedDesign[], json: boolean): void {
+  if (json) process.stdout.write(readFileSync(join(root, 'summary.json'), 'utf8'));
+  else printSizing(sized, rankDesigns(sized));
 }
 
-async function sizeDesign(study: ResolvedStudy, folder: string, o: DesignOptions, toolVersion: string): Promise<{ sizing: Sizing; overall: StudySummary['overall'] } | null> {
-  const started = Date.now();
-  const onRound = o.quiet ? undefined : (round: number, jobs: number) => process.stderr.write(`${folder}: round ${round + 1}, ${jobs} job${jobs === 1 ? '' : 's'}\n`);
-  const out = await adaptiveSweep(study, { folder, workers: o.workers, quiet: o.quiet, initial: o.initial, batch: o.batch, max: o.max, target: o.target, alpha: 0.05, parameter: o.parameter, onRound });
-  if (out.interrupted) return null;
+async function writeDesignOutputs(d: SweepDesign, folder: string, lines: JobLine[], rule: SizingRule, s: SweepSettings, toolVersion: string): Promise<{ sizing: Sizing; overall: StudySummary['overall'] }> {
+  const study = d.study;
   const fitting = study.scenario.fitting;
-  const result = sizing(out.lines, {
+  const parameter = s.parameter ?? undefined;
+  const result = sizing(lines, {
     candidates: study.candidates.map((c) => c.name),
     generating: study.generating,
     trialCounts: study.trialCounts,
-    target: o.target,
-    rule: out.rule,
+    target: s.target,
+    rule,
     criterion: fitting.criterion,
     margin: fitting.margin,
-    parameter: o.parameter,
+    parameter,
   });
   // The analytic prediction at the same counts, beside the simulated accuracies.
-  const analytic = analyticPreview(study.scenario, study.candidates, study.generating, { target: o.target, atTrials: study.trialCounts });
+  const analytic = analyticPreview(study.scenario, study.candidates, study.generating, { target: s.target, atTrials: study.trialCounts });
   result.predicted = {
     method: analytic.predicted.method,
     points: analytic.predicted.atTrials.flatMap((a) => Object.entries(a.byModel).map(([generating, p]) => ({ generating, trials: a.trials, p }))),
     trialsNeeded: analytic.predicted.trialsNeeded,
   };
-  const summary = { ...studySummary(study, out.lines, toolVersion), sizing: jsonSafe(result) };
-  writeStudyOutputs(folder, summary, out.lines);
+  const summary = { ...studySummary(study, lines, toolVersion), sizing: jsonSafe(result) };
+  writeStudyOutputs(folder, summary, lines);
   writeAtomically(join(folder, 'sizing.csv'), sizingCsv(result));
   writeAtomically(join(folder, 'sizing-needed.csv'), sizingNeededCsv(result));
   mkdirSync(join(folder, 'figures'), { recursive: true });
   writeAtomically(join(folder, 'figures', 'sizing-accuracy.svg'), await sizingFigure(result));
-  writeFileSync(
-    join(folder, 'run-info.json'),
-    JSON.stringify({ host: hostname(), workers: o.workers ?? 'all cores', seconds: (Date.now() - started) / 1000, jobsRun: out.ran, jobsFailed: out.failed, rounds: out.rule.rounds, finished: new Date().toISOString() }, null, 2) + '\n',
-  );
   return { sizing: result, overall: summary.overall };
 }
 

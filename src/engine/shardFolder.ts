@@ -39,6 +39,8 @@ export const shardRecordSchema = z
     plan: z.object({ jobs: z.number().int().min(0), digest: z.string().regex(/^[0-9a-f]{64}$/, 'a sha256 in hex') }).strict(),
     /** Jobs in this shard's slice. */
     jobs: z.number().int().min(0),
+    /** The round of an adaptive sweep (size) whose plan this shard splits; absent for one-round commands. */
+    round: z.number().int().min(1).optional(),
   })
   .strict();
 
