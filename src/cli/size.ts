@@ -13,7 +13,7 @@ import { applyOverrides, resolveStudy } from '../engine/resolve.js';
 import { adaptiveSweep } from '../engine/adaptiveSweep.js';
 import { sizingRule, type Replay, type RoundPlan, type SweepDesign, type SweepSettings } from '../engine/sizeRounds.js';
 import { designFolderInRun } from '../engine/sizeShards.js';
-import { readRoundPlan, type RoundPlanFile } from '../engine/roundPlanFile.js';
+import { readRoundPlan, runFolderOfPlan, type RoundPlanFile } from '../engine/roundPlanFile.js';
 import { sweepRecord, writeSweepRecord, type SweepRecord } from '../engine/sweepRecord.js';
 import { readScenario, designVariants } from '../scenario/variants.js';
 import type { Scenario } from '../scenario/schema.js';
@@ -113,12 +113,17 @@ export function sweepFromFlags(file: string, flags: SizeFlags): Sweep {
   return { designs, settings, record, plan };
 }
 
+/** --out, else the run folder a round plan sits in, else results/<name>-size. */
+export function sweepFolder(sweep: Sweep, flags: { out?: string; roundPlan?: string }): string {
+  return flags.out ?? (flags.roundPlan !== undefined ? runFolderOfPlan(flags.roundPlan) : null) ?? join('results', `${sweep.designs[0].study.scenario.name}-size`);
+}
+
 export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: string): Promise<void> {
   if (flags.overwrite && flags.resume) throw new UserError('--overwrite and --resume exclude each other');
   if (flags.roundPlan !== undefined && flags.shard === undefined) throw new UserError('--round-plan runs one round of a sweep as shards; add --shard K/N (1/1 runs the whole round on this machine)');
   const sweep = sweepFromFlags(file, flags);
   const workers = positiveInt('workers', flags.workers, 256);
-  const root = flags.out ?? join('results', `${sweep.designs[0].study.scenario.name}-size`);
+  const root = sweepFolder(sweep, flags);
   if (flags.shard !== undefined) return sizeShard(sweep, root, flags.shard, { ...flags, workers });
   const folderOf = (variant: string) => designFolderInRun(root, variant);
   if (flags.overwrite) removeRunFolder(root);

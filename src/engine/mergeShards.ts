@@ -81,8 +81,8 @@ export function checkSameStudy(shards: readonly ShardFolder[]): void {
     ['shards of different commands', (s) => `'${s.record.command}'`, 'merge joins the shards of one command at a time'],
     ['different seeds', (s) => `seed ${s.record.seed}`, 'every shard of a study must run with the same scenario file and the same --seed'],
     ['different scenarios or settings', (s) => `scenario '${s.record.name}', hash ${s.record.scenarioHash.slice(0, 12)}…`, 'every shard of a study must run with the same scenario file and the same flags (--observers, --trials, --seed)'],
-    ['different splits', (s) => `${s.record.shard.count} shards`, 'every shard must use the same N in --shard K/N'],
     ['shards of different rounds', (s) => `round ${s.record.round ?? 1}`, 'merge joins one round of a sweep at a time: give the shard folders of one round (e.g. results/<name>-size/round-2), after merging the rounds before it'],
+    ['different splits', (s) => `${s.record.shard.count} shards`, 'every shard must use the same N in --shard K/N'],
     ['different plans', (s) => `plan ${s.record.plan.digest.slice(0, 12)}… of ${s.record.plan.jobs} jobs`, 'the shards belong to different rounds or lossprobe versions'],
   ];
   for (const [what, value, advice] of checks) {

@@ -12,7 +12,7 @@
  * so an edited or foreign file is refused rather than run.
  */
 import { existsSync, mkdirSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { basename, dirname, join, resolve } from 'node:path';
 import { z } from 'zod';
 import { UserError, formatSchemaIssues } from '../cli/userError.js';
 import { writeFileAtomically } from './atomicFile.js';
@@ -44,6 +44,12 @@ export type RoundPlanFile = z.infer<typeof roundPlanFileSchema>;
 /** The folder of round R inside a sweep's run folder; its shards and its plan file go there. */
 export function roundFolder(root: string, round: number): string {
   return join(root, `round-${round}`);
+}
+
+/** The sweep's run folder a plan file sits in (<run folder>/round-R/plan.json), or null when it was moved elsewhere. */
+export function runFolderOfPlan(path: string): string | null {
+  const round = dirname(resolve(path));
+  return /^round-\d+$/.test(basename(round)) ? dirname(round) : null;
 }
 
 export const roundPlanPath = (root: string, round: number) => join(roundFolder(root, round), 'plan.json');
