@@ -135,6 +135,7 @@ function roundReport(o: { record: SweepRecord; out: string; round: number; shard
   lines.push(
     `Another round is needed: ${next.points.length} point${next.points.length > 1 ? 's' : ''} still straddle the target ${s.target} (the 95% anytime-valid interval contains it), so round ${next.round} gives ${next.points.length > 1 ? 'each' : 'it'} ${same ? `${to - from} more observer${to - from > 1 ? 's' : ''} (observers ${from + 1}–${to} of at most ${s.max})` : `more observers, up to ${s.max}`}:`,
     ...designLines(next.points),
+    `Until the sweep is finished, the tables above and the folder's summary.json describe the rounds so far only: provisional.`,
     `Round ${next.round}'s plan (${jobs} jobs) is written to ${o.planFile}. Run its shards (K = 1..${n}; any N up to ${jobs}), then merge:`,
     `  lossprobe size ${words(roundArgs(o.record, out, next.round))} --shard K/${n} --out ${out} --resume`,
     `  lossprobe merge ${roundFolder(out, next.round)} --out ${out}`,
