@@ -23,6 +23,8 @@ import { UserError } from './userError.js';
 export interface ClusterFlags extends Pick<SizeFlags, 'observers' | 'trials' | 'seed' | 'maxObservers' | 'batch' | 'target' | 'parameter' | 'exclude' | 'width' | 'roundPlan'> {
   /** Shard round 1 of a trial-count sweep (`size`); --round-plan shards a later round. */
   size?: boolean;
+  /** With a sweep: each round's merge job writes and submits the next round itself. */
+  follow?: boolean;
   shards: string;
   partition?: string;
   account?: string;
@@ -45,7 +47,7 @@ const SLURM_TIME = /^(\d+|\d+:\d\d|\d+:\d\d:\d\d|\d+-\d+|\d+-\d+:\d\d|\d+-\d+:\d
 const SLURM_NAME = /^[A-Za-z0-9_.,-]+$/;
 
 export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: string): void {
-  const shards = wholeNumber('shards', flags.shards, 10_000);
+  let shards = wholeNumber('shards', flags.shards, 10_000);
   const cpus = wholeNumber('cpus', flags.cpus, 1024);
   if (!SLURM_TIME.test(flags.time)) throw new UserError(`--time expects a Slurm time limit: minutes, HH:MM:SS or D-HH:MM:SS, e.g. 90, 02:00:00 or 1-12:00:00 (got '${flags.time}')`);
   for (const flag of ['partition', 'account'] as const) {
@@ -59,8 +61,14 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
   const sweepOnly = (['maxObservers', 'batch', 'target', 'parameter', 'exclude', 'width'] as const).filter((k) => flags[k] !== undefined);
   if (!sweeping && sweepOnly.length) throw new UserError(`${sweepOnly.map((k) => `--${k.replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}`).join(', ')} belong${sweepOnly.length > 1 ? '' : 's'} to a trial-count sweep; add --size (round 1) or --round-plan FILE (a later round)`);
   if (sweeping && fitData !== undefined) throw new UserError('--fit-data shards a fit; --size and --round-plan shard a trial-count sweep; choose one');
+  if (flags.follow && !sweeping) throw new UserError('--follow chains the rounds of a trial-count sweep; add --size (or --round-plan FILE)');
   const job = sweeping ? sweepJob(file, flags) : studyJob(file, flags, fitData);
   const { jobs } = job;
+  // A later round may be small; its scripts (written by hand or by a --follow merge job) use fewer shards rather than fail.
+  if (flags.roundPlan !== undefined && shards > jobs) {
+    console.log(`Round ${job.round} has only ${jobs} job${jobs > 1 ? 's' : ''}: ${jobs} shard${jobs > 1 ? 's' : ''} instead of ${shards}.`);
+    shards = jobs;
+  }
   if (shards > jobs) throw new UserError(`--shards ${shards} exceeds the ${job.round ? `round's` : `study's`} ${jobs} jobs; some array tasks would have nothing to do (use at most ${jobs})`);
   const out = resolve(flags.out ?? job.defaultOut);
   // Slurm reads the log paths from #SBATCH lines, where blanks split words and % starts a pattern.
@@ -76,6 +84,9 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
     shards,
     shardBase,
     round: job.round,
+    follow: flags.follow
+      ? ['--shards', flags.shards, '--cpus', flags.cpus, '--time', flags.time, ...(flags.partition ? ['--partition', flags.partition] : []), ...(flags.account ? ['--account', flags.account] : [])]
+      : undefined,
     cpus,
     time: flags.time,
     partition: flags.partition,
@@ -102,7 +113,8 @@ export function clusterCommand(file: string, flags: ClusterFlags, toolVersion: s
   console.log(`  merge.sbatch  joins the shards into ${out}/ (summary.json, CSV files${job.round ? `; and, if another round is needed, its plan ${join(out, `round-${job.round + 1}`, 'plan.json')}` : ''})`);
   console.log('  submit.sh     queues the array, then the merge to start once every task has ended');
   console.log(`Submit from a login node of the cluster (same files and paths):\n  bash ${join(dir, 'submit.sh')}`);
-  if (job.round) console.log(`When the merge has ended, its log (${join(shardBase, 'logs', 'merge.log')}) says whether another round is needed and gives the \`lossprobe cluster … --round-plan\` command that writes its scripts.`);
+  if (job.round && flags.follow) console.log(`--follow: when the merge planned another round, the merge job writes its scripts into ${join(out, `round-${job.round + 1}`, 'slurm')}/ and submits them, until no round is needed; each round's merge log (${join(out, 'round-R', 'logs', 'merge.log')}) says what it decided. Your cluster must allow sbatch inside a job.`);
+  else if (job.round) console.log(`When the merge has ended, its log (${join(shardBase, 'logs', 'merge.log')}) says whether another round is needed and gives the \`lossprobe cluster … --round-plan\` command that writes its scripts (or write the scripts with --follow to have each merge job go on by itself).`);
   console.log(`Logs: ${join(shardBase, 'logs')}/shard-K.log and merge.log. If task K fails or hits its time limit, resubmit it (it resumes where it stopped) and merge again:`);
   console.log(`  sbatch --array=K ${join(dir, 'array.sbatch')}\n  sbatch ${join(dir, 'merge.sbatch')}`);
   if (shards > 1000) console.log('Note: many clusters cap array indices at 1000 (MaxArraySize); ask your administrators or use fewer shards.');

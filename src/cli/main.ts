@@ -159,6 +159,7 @@ async function main(argv: string[]): Promise<void> {
     .option('--fit-data <file>', "shard `fit` of this participants' CSV (one job per participant) instead of a recovery study")
     .option('--size', 'shard round 1 of a trial-count sweep (`size`) instead of a recovery study; merge then plans the next round')
     .option('--round-plan <file>', 'shard a later round of a sweep: the plan merge wrote (<out>/round-R/plan.json)')
+    .option('--follow', 'with --size or --round-plan: each round\'s merge job writes and submits the next round itself, until none is needed')
     .option('--max-observers <n>', 'with --size: cap on observers per point (as size)')
     .option('--batch <n>', 'with --size: observers added to an undecided point per round (as size)')
     .option('--target <p>', 'with --size: accuracy to reach (as size)')

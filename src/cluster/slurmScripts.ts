@@ -38,6 +38,11 @@ export interface SlurmPlan {
   shardBase?: string;
   /** A round of an adaptive sweep (size): named in the comments and job names. */
   round?: number;
+  /**
+   * With a round: the `lossprobe cluster` flags (shards, cores, time, partition, account) with which the
+   * merge job writes and submits the next round's scripts itself, when merge planned one (cluster --follow).
+   */
+  follow?: string[];
 }
 
 export interface SlurmScripts {
@@ -110,7 +115,7 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
     '',
     'set -euo pipefail',
     ...lossprobeLocation(p),
-    `exec "$node" "$cli" merge ${shellQuote(base)}/${glob} --out ${out}`,
+    ...(p.follow && p.round !== undefined ? followRound(p, base, glob) : [`exec "$node" "$cli" merge ${shellQuote(base)}/${glob} --out ${out}`]),
     '',
   ];
   const submit = [
@@ -127,4 +132,24 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
     '',
   ];
   return { 'array.sbatch': array.join('\n'), 'merge.sbatch': merge.join('\n'), 'submit.sh': submit.join('\n') };
+}
+
+/**
+ * The merge of a sweep's round that goes on by itself: merge, then, when the
+ * merge wrote the next round's plan and that round has no scripts yet (so a
+ * merge run again never submits a round twice), write its scripts with the
+ * same cluster flags and submit them from this job.
+ */
+function followRound(p: SlurmPlan, base: string, glob: string): string[] {
+  const out = shellQuote(p.out);
+  const next = `${p.out}/round-${p.round! + 1}`;
+  return [
+    `"$node" "$cli" merge ${shellQuote(base)}/${glob} --out ${out}`,
+    '# --follow: when the merge planned another round, write its scripts and submit them from here.',
+    `next=${shellQuote(next)}`,
+    'if [ -f "$next/plan.json" ] && [ ! -e "$next/slurm" ]; then',
+    `  "$node" "$cli" cluster ${shellQuote(p.scenario)} --round-plan "$next/plan.json" ${p.follow!.map(shellQuote).join(' ')} --out ${out} --follow`,
+    '  exec bash "$next/slurm/submit.sh"',
+    'fi',
+  ];
 }
