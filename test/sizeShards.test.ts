@@ -123,7 +123,7 @@ describe('size in rounds on a cluster', () => {
     const fresh = join(tmp, 'fresh');
     refuses(['merge', join(afterRound2, 'round-2'), '--out', fresh], /holds no round yet of this sweep, so the round to merge next is round 1, not round 2/);
     expect(exists(fresh)).toBe(false);
-    refuses(['merge', join(afterRound2, 'round-1'), '--out', afterRound2], /already holds rounds 1–2 of this sweep, so round 1's shards were merged before; the next round to run and merge is round 3/);
+    refuses(['merge', join(afterRound2, 'round-1'), '--out', afterRound2], /already holds rounds 1–2 of this sweep \(merged, or run on one machine\), so round 1's lines are in it; the next round to run and merge is round 3/);
     refuses(['merge', join(out, 'round-3'), '--out', afterRound1], /holds round 1 of this sweep, so the round to merge next is round 2, not round 3/);
   });
 
@@ -145,6 +145,34 @@ describe('size in rounds on a cluster', () => {
   it('names a missing shard of a round by number, with the command that runs it', () => {
     const err = refuses(['merge', join(afterRound2, 'round-2', 'shard-001-of-003'), join(afterRound2, 'round-2', 'shard-003-of-003'), '--out', afterRound1], /shard 2 of 3 is missing/);
     expect(err).toContain(`--round-plan ${join(afterRound1, 'round-2', 'plan.json')} --shard 2/3`);
+  });
+
+  it('a sweep merged up to round 1 on the cluster can be finished on one machine with size --resume: same result', () => {
+    const laptop = join(tmp, 'laptop');
+    cpSync(afterRound1, laptop, { recursive: true });
+    ok(['size', FIXTURE, ...SETTINGS, '--out', laptop, '--resume', '--workers', '1', '--quiet']);
+    for (const sub of ['', join('variants', 'narrow')]) expect(readText(join(laptop, sub, 'summary.json')).replaceAll(laptop, out)).toBe(readText(join(single, sub, 'summary.json')));
+  });
+
+  it('points a merge of the whole run folder to the round to merge', () => {
+    refuses(['merge', afterRound2, '--out', afterRound2], new RegExp(`run folder of a trial-count sweep run in rounds \\(round-1, round-2, round-3\\); merge one round at a time, the round just run: lossprobe merge ${join(afterRound2, 'round-3')}`));
+  });
+
+  it('cluster --follow writes a merge job that submits the next round itself, once; a small later round gets fewer shards', () => {
+    const follow = join(tmp, 'follow');
+    ok(['cluster', FIXTURE, '--size', ...SETTINGS, '--follow', '--shards', '2', '--partition', 'short', '--out', follow]);
+    const merge = readText(join(follow, 'round-1', 'slurm', 'merge.sbatch'));
+    expect(merge).toContain(`next=${join(follow, 'round-2')}\n`);
+    expect(merge).toContain('if [ -f "$next/plan.json" ] && [ ! -e "$next/slurm" ]; then');
+    expect(merge).toContain(`cluster ${FIXTURE} --round-plan "$next/plan.json" --shards 2 --cpus 4 --time 02:00:00 --partition short --out ${follow} --follow`);
+    expect(merge).toContain('exec bash "$next/slurm/submit.sh"');
+    expect(spawnSync('bash', ['-n', join(follow, 'round-1', 'slurm', 'merge.sbatch')]).status).toBe(0);
+    refuses(['cluster', FIXTURE, '--follow', '--shards', '2', '--out', join(tmp, 'never')], /--follow chains the rounds of a trial-count sweep; add --size/);
+    const small = join(tmp, 'small');
+    const r = ok(['cluster', FIXTURE, '--round-plan', join(afterRound2, 'round-3', 'plan.json'), '--shards', '500', '--out', small]);
+    const jobs = readJson<{ jobs: number }>(join(afterRound2, 'round-3', 'plan.json')).jobs;
+    expect(r.stdout).toContain(`Round 3 has only ${jobs} jobs: ${jobs} shards instead of 500.`);
+    expect(readText(join(small, 'round-3', 'slurm', 'array.sbatch'))).toContain(`#SBATCH --array=1-${jobs}\n`);
   });
 
   it('checks --round-plan: needs --shard, fixes the settings, and belongs to one sweep', () => {

@@ -47,6 +47,9 @@ export function expandShardFolders(args: readonly string[]): string[] {
       .filter((d) => /^shard-\d+-of-\d+$/.test(d) && existsSync(join(a, d, SHARD_FILE)))
       .sort()
       .map((d) => join(a, d));
+    const rounds = readdirSync(a).filter((d) => /^round-\d+$/.test(d)).sort((x, y) => Number(x.slice(6)) - Number(y.slice(6)));
+    if (!inner.length && rounds.length && !existsSync(join(a, SHARD_FILE)))
+      throw new UserError(`${a} is the run folder of a trial-count sweep run in rounds (${rounds.join(', ')}); merge one round at a time, the round just run: lossprobe merge ${join(a, rounds[rounds.length - 1])} --out ${a}`);
     out.push(...(inner.length ? inner : [a]));
   }
   return out;

@@ -98,7 +98,7 @@ export function joinSizeRound(shards: readonly ShardFolder[], designs: readonly 
     const again = new Set(roundJobs(before.done[done - 1]).map((j) => j.key));
     keep = (d, l) => !again.has(roundKey(d, l.key));
   } else if (round <= done) {
-    throw new UserError(`merge refuses: ${out} already holds ${roundsText(done)} of this sweep, so round ${round}'s shards were merged before${before.next ? `; the next round to run and merge is round ${before.next.round}` : ' and the sweep is finished'}.`);
+    throw new UserError(`merge refuses: ${out} already holds ${roundsText(done)} of this sweep (merged, or run on one machine), so round ${round}'s lines are in it${before.next ? `; the next round to run and merge is round ${before.next.round}` : ' and the sweep is finished'}.`);
   } else if (!before.next) {
     throw new UserError(`merge refuses: ${out} holds the finished sweep (${roundsText(done)}); the rule asks for no round ${round}. These shards belong to another run of the sweep.`);
   } else {
