@@ -15,7 +15,7 @@ import type { JobLine } from '../src/analysis/types.js';
 import type { ResolvedStudy } from '../src/engine/resolve.js';
 import { firstRound, replayRounds, roundJobs, splitRoundKey, sweepHash, undecided, type SweepDesign, type SweepSettings } from '../src/engine/sizeRounds.js';
 import { modelSuccess } from '../src/analysis/sizingSuccess.js';
-import { jobKey } from '../src/engine/plan.js';
+import { fakeLine } from './helpers/fakeLines.js';
 
 const MODELS = ['a', 'b'];
 
@@ -23,21 +23,7 @@ function study(counts: number[], hash: string): ResolvedStudy {
   return { scenario: { name: 'fabricated', seed: 1, fitting: { criterion: 'bic', margin: 0 } }, candidates: MODELS.map((name) => ({ name })), generating: MODELS, trialCounts: counts, hash } as unknown as ResolvedStudy;
 }
 
-/** A job line whose comparison picked `winner` (the shape analysis reads). */
-function line(generating: string, observer: number, trials: number, winner: string): JobLine {
-  return {
-    key: jobKey(generating, observer, trials),
-    generating,
-    observer,
-    trials,
-    truth: {},
-    truthFree: {},
-    status: 'ok',
-    attempts: 1,
-    fits: MODELS.map((m) => ({ model: m, status: 'ok', reason: '', logLikelihood: 0, k: 1, aic: 0, aicc: 0, bic: 0, parameters: [], flatDirection: false, evaluations: 1 })),
-    comparison: { criterion: 'bic', status: 'won', winner, contenders: [winner], delta: {}, weight: {} },
-  } as JobLine;
-}
+const line = (generating: string, observer: number, trials: number, winner: string) => fakeLine(generating, observer, trials, winner, MODELS);
 
 const judge = modelSuccess(MODELS, { criterion: 'bic', margin: 0 });
 

@@ -11,10 +11,11 @@
  * and lists the points that get observers with a digest of the plan's keys,
  * so an edited or foreign file is refused rather than run.
  */
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { mkdirSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { z } from 'zod';
-import { UserError, formatSchemaIssues } from '../cli/userError.js';
+import { UserError } from '../cli/userError.js';
+import { readJsonRecord } from './jsonRecord.js';
 import { writeFileAtomically } from './atomicFile.js';
 import { planDigest } from './shardFolder.js';
 import { roundJobs, sweepSettingsSchema, type RoundPlan, type SweepSettings } from './sizeRounds.js';
@@ -76,16 +77,8 @@ export function writeRoundPlan(root: string, o: { name: string; scenarioFile: st
 
 /** Read and check a round plan file; the plan it holds, ready to shard. */
 export function readRoundPlan(path: string): { file: RoundPlanFile; plan: RoundPlan } {
-  if (!existsSync(path)) throw new UserError(`--round-plan ${path}: no such file (merge writes a round's plan as <run folder>/round-<R>/plan.json when another round is needed)`);
-  let raw: unknown;
-  try {
-    raw = JSON.parse(readFileSync(path, 'utf8'));
-  } catch (e) {
-    throw new UserError(`--round-plan ${path}: not valid JSON (${(e as Error).message}); it is written by \`lossprobe merge\` and should not be edited`);
-  }
-  const parsed = roundPlanFileSchema.safeParse(raw);
-  if (!parsed.success) throw new UserError(formatSchemaIssues(path, parsed.error, raw));
-  const file = parsed.data;
+  const file = readJsonRecord(path, roundPlanFileSchema, '`lossprobe merge`');
+  if (!file) throw new UserError(`--round-plan ${path}: no such file (merge writes a round's plan as <run folder>/round-<R>/plan.json when another round is needed)`);
   const plan: RoundPlan = { round: file.round, points: file.points };
   const bad = file.points.find((p) => !(p.to > p.from && p.to <= file.settings.max));
   const keys = bad ? [] : roundJobs(plan).map((j) => j.key);

@@ -7,10 +7,9 @@
  * run folders of another sweep, and print the exact commands of the next
  * round. It holds nothing measured; summary.json does.
  */
-import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { z } from 'zod';
-import { UserError, formatSchemaIssues } from '../cli/userError.js';
+import { readJsonRecord } from './jsonRecord.js';
 import { writeFileAtomically } from './atomicFile.js';
 import { sweepHash, sweepSettingsSchema, type SweepDesign, type SweepSettings } from './sizeRounds.js';
 
@@ -47,15 +46,5 @@ export function writeSweepRecord(folder: string, record: SweepRecord): void {
 
 /** size.json of a folder, or null when it has none. */
 export function readSweepRecord(folder: string): SweepRecord | null {
-  const path = join(folder, SWEEP_FILE);
-  if (!existsSync(path)) return null;
-  let raw: unknown;
-  try {
-    raw = JSON.parse(readFileSync(path, 'utf8'));
-  } catch (e) {
-    throw new UserError(`${path}: not valid JSON (${(e as Error).message}); it is written by \`lossprobe size\` and should not be edited`);
-  }
-  const parsed = sweepRecordSchema.safeParse(raw);
-  if (!parsed.success) throw new UserError(formatSchemaIssues(path, parsed.error, raw));
-  return parsed.data;
+  return readJsonRecord(join(folder, SWEEP_FILE), sweepRecordSchema, '`lossprobe size`');
 }
