@@ -8,7 +8,7 @@
  * its plan. Round planning lives in engine/sizeRounds.ts, shard folders and
  * the join in engine/sizeShards.ts; this file parses, calls and prints.
  */
-import { writeFileSync } from 'node:fs';
+import { existsSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join, resolve } from 'node:path';
 import { runRound } from '../engine/adaptiveSweep.js';
@@ -16,7 +16,7 @@ import { writeFileAtomically } from '../engine/atomicFile.js';
 import type { ShardFolder } from '../engine/mergeShards.js';
 import { roundFolder, writeRoundPlan } from '../engine/roundPlanFile.js';
 import { parseShard } from '../engine/shard.js';
-import { openShard, recordShard } from '../engine/shardFolder.js';
+import { openShard, recordShard, SHARD_FILE } from '../engine/shardFolder.js';
 import { firstRound, roundJobs, type RoundPlan, type SweepSettings } from '../engine/sizeRounds.js';
 import { designFolderInRun, designFolderInShard, joinSizeRound, sweepOfShard } from '../engine/sizeShards.js';
 import { writeSweepRecord, type SweepRecord } from '../engine/sweepRecord.js';
@@ -54,6 +54,9 @@ export async function sizeShard(sweep: Sweep, root: string, shardText: string, f
   const start = openShard({ base: roundFolder(root, plan.round), shard, command: 'size', name: baseStudy.scenario.name, scenarioHash: sweep.record.sweepHash, seed: baseStudy.scenario.seed, plan: roundJobs(plan) });
   const record = { ...start.record, round: plan.round };
   const folder = start.folder;
+  // The shard folder's top holds no jobs.jsonl that prepareRunFolder could check, so a resumed shard's record is checked first:
+  // another sweep's shard folder must be refused before anything in it is rewritten.
+  if (!flags.overwrite && existsSync(join(folder, SHARD_FILE))) recordShard(folder, record);
   // The shard's scenario.json carries the sweep's hash (merge checks it against shard.json); each design's folder carries its own.
   prepareRunFolder(folder, { hash: sweep.record.sweepHash, scenario: baseStudy.scenario }, flags);
   for (const d of sweep.designs) openRunFolder(designFolderInShard(folder, d.variant), d.study, flags.resume ?? false);
