@@ -100,6 +100,10 @@ describe('size in rounds on a cluster', () => {
     expect(merges[1]).toMatch(/now holds rounds 1–2/);
     expect(merges[2]).toMatch(/No further round is needed/);
     expect(merges[2]).toMatch(/The folder is final/);
+    // Until the last round, summary.json and the report say the numbers are provisional; the final folder does not (it equals the single-machine one).
+    expect(readJson<any>(join(afterRound1, 'summary.json')).sizing.provisional).toMatch(/^Provisional: .* holds round 1 only; round 2 \(plan .*round-2\/plan\.json\) is still to run/);
+    expect(readText(join(afterRound1, 'variants', 'narrow', 'report.html'))).toContain('Provisional: this sweep runs in rounds');
+    expect(readJson<any>(join(out, 'summary.json')).sizing.provisional).toBeUndefined();
     const plan = readJson<{ round: number; jobs: number; points: { from: number; to: number }[]; settings: { max: number } }>(join(out, 'round-2', 'plan.json'));
     expect(plan.round).toBe(2);
     expect(plan.points.every((p) => p.from === 2 && p.to === 4)).toBe(true);

@@ -152,11 +152,11 @@ export async function sizeCommand(file: string, flags: SizeFlags, toolVersion: s
  * side-by-side ranking in the base folder. The single-machine sweep and the
  * merge of a cluster round end here alike, so their folders agree.
  */
-export async function finishSweep(o: { root: string; sweep: Sweep; replay: Replay; toolVersion: string }): Promise<SizedDesign[]> {
+export async function finishSweep(o: { root: string; sweep: Sweep; replay: Replay; toolVersion: string; provisional?: string }): Promise<SizedDesign[]> {
   const sized: SizedDesign[] = [];
   for (const d of o.sweep.designs) {
     const folder = designFolderInRun(o.root, d.variant);
-    const result = await writeDesignOutputs(d, folder, o.replay.lines.get(d.variant)!, sizingRule(d, o.sweep.settings, o.replay.rounds.get(d.variant)!), o.sweep.settings, o.toolVersion);
+    const result = await writeDesignOutputs(d, folder, o.replay.lines.get(d.variant)!, sizingRule(d, o.sweep.settings, o.replay.rounds.get(d.variant)!), o.sweep.settings, o.toolVersion, o.provisional);
     sized.push({ variant: d.variant, folder, sizing: result.sizing, overall: result.overall });
   }
   const ranking = rankDesigns(sized);
@@ -188,7 +188,7 @@ export function printSweep(root: string, sized: SizedDesign[], json: boolean): v
   else printSizing(sized, rankDesigns(sized));
 }
 
-async function writeDesignOutputs(d: SweepDesign, folder: string, lines: JobLine[], rule: SizingRule, s: SweepSettings, toolVersion: string): Promise<{ sizing: Sizing; overall: StudySummary['overall'] }> {
+async function writeDesignOutputs(d: SweepDesign, folder: string, lines: JobLine[], rule: SizingRule, s: SweepSettings, toolVersion: string, provisional?: string): Promise<{ sizing: Sizing; overall: StudySummary['overall'] }> {
   const study = d.study;
   const fitting = study.scenario.fitting;
   const parameter = s.parameter ?? undefined;
@@ -209,6 +209,7 @@ async function writeDesignOutputs(d: SweepDesign, folder: string, lines: JobLine
     points: analytic.predicted.atTrials.flatMap((a) => Object.entries(a.byModel).map(([generating, p]) => ({ generating, trials: a.trials, p }))),
     trialsNeeded: analytic.predicted.trialsNeeded,
   };
+  if (provisional) result.provisional = provisional;
   const summary = { ...studySummary(study, lines, toolVersion), sizing: jsonSafe(result) };
   writeStudyOutputs(folder, summary, lines);
   writeAtomically(join(folder, 'sizing.csv'), sizingCsv(result));

@@ -97,8 +97,11 @@ export async function mergeSizeRound(shards: readonly ShardFolder[], o: { out: s
   }
   writeSweepRecord(out, record);
   const sweep: Sweep = { designs, settings: record.settings, record, plan: null };
-  const sized = await finishSweep({ root: out, sweep, replay: joined.after, toolVersion: o.toolVersion });
   const nextPlan = joined.after.next;
+  const provisional = nextPlan
+    ? `Provisional: this sweep runs in rounds on a cluster and holds ${round === 1 ? 'round 1' : `rounds 1–${round}`} only; round ${nextPlan.round} (plan ${join(roundFolder(out, nextPlan.round), 'plan.json')}) is still to run, and points whose interval contains the target will get more observers. The numbers describe the rounds so far.`
+    : undefined;
+  const sized = await finishSweep({ root: out, sweep, replay: joined.after, toolVersion: o.toolVersion, provisional });
   const planFile = nextPlan ? writeRoundPlan(out, { name: record.name, scenarioFile: record.scenarioFile, sweepHash: record.sweepHash, settings: record.settings, plan: nextPlan }) : undefined;
   const failed = [...joined.after.lines.values()].flat().filter((l) => l.status !== 'ok').length;
   const text = roundReport({ record, out, round, shards: shards.length, added: joined.jobs, jobs, failed, next: nextPlan, planFile, capped: joined.after.capped, count });
