@@ -87,11 +87,12 @@ export async function mergeSizeRound(shards: readonly ShardFolder[], o: { out: s
   const hint = (k: number) => `shard ${k}: \`lossprobe size ${words(roundArgs(record, out, round))} --shard ${k}/${count} --out ${out} --resume\`, or \`sbatch --array=${k} ${join(roundFolder(out, round), 'slurm', 'array.sbatch')}\``;
   const joined = joinSizeRound(shards, designs, record, out, hint);
   // Everything is checked; from here on the run folder is written, each file atomically.
+  // Every design's folder is checked (and made) before any jobs.jsonl is replaced.
+  for (const d of designs) openRunFolder(designFolderInRun(out, d.variant), d.study, true);
   let jobs = 0;
   for (const d of designs) {
     const folder = designFolderInRun(out, d.variant);
     const lines = joined.after.lines.get(d.variant)!;
-    openRunFolder(folder, d.study, true);
     writeFileAtomically(join(folder, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
     jobs += lines.length;
   }
