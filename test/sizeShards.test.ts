@@ -129,6 +129,13 @@ describe('size in rounds on a cluster', () => {
     expect(exists(fresh)).toBe(false);
     refuses(['merge', join(afterRound2, 'round-1'), '--out', afterRound2], /already holds rounds 1–2 of this sweep \(merged, or run on one machine\), so round 1's lines are in it; the next round to run and merge is round 3/);
     refuses(['merge', join(out, 'round-3'), '--out', afterRound1], /holds round 1 of this sweep, so the round to merge next is round 2, not round 3/);
+    // The last merged round may be merged again (say after its report was lost): the same folder comes out.
+    const again = join(tmp, 'again');
+    cpSync(afterRound2, again, { recursive: true });
+    // The copy's summary names the folder it was merged into; the merge again names the copy.
+    const before = readText(join(again, 'summary.json')).replaceAll(out, again);
+    ok(['merge', join(again, 'round-2'), '--out', again]);
+    expect(readText(join(again, 'summary.json'))).toBe(before);
   });
 
   it('refuses a round plan that is not the one the merged lines call for', () => {
