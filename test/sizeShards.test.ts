@@ -19,8 +19,8 @@ import { roundJobs, type RoundPlan } from '../src/engine/sizeRounds.js';
 import { planDigest } from '../src/engine/shardFolder.js';
 
 const FIXTURE = join(ROOT, 'test', 'fixtures', 'sizing-study.yaml');
-/** Two observers a point to start, two more a round, at most six: up to three rounds. */
-const SETTINGS = ['--trials', '20,40,80', '--observers', '2', '--batch', '2', '--max-observers', '6'];
+/** Two observers a point to start, two more a round, at most six (up to three rounds); a parameter target beside the model target. */
+const SETTINGS = ['--trials', '20,40,80', '--observers', '2', '--batch', '2', '--max-observers', '6', '--parameter', 'noise.standard.sd', '--width', '2.5'];
 const NO_STACK = /\n\s+at /;
 
 let tmp: string;
