@@ -165,6 +165,17 @@ describe('size in rounds on a cluster', () => {
     for (const sub of ['', join('variants', 'narrow')]) expect(readText(join(laptop, sub, 'summary.json')).replaceAll(laptop, out)).toBe(readText(join(single, sub, 'summary.json')));
   });
 
+  it('a shard killed midway resumes with --resume, and the round merges as if nothing happened (any split)', () => {
+    const killed = join(tmp, 'killed');
+    cpSync(afterRound1, killed, { recursive: true });
+    const args = ['size', FIXTURE, '--round-plan', join(killed, 'round-2', 'plan.json'), '--shard', '1/1', '--workers', '1', '--quiet'];
+    expect(lossprobe(args, { LOSSPROBE_EXIT_AFTER: '3' }).status).toBe(137);
+    refuses(['merge', join(killed, 'round-2'), '--out', killed], /shard 1 of 1 \(.*\) lacks \d+ of its \d+ jobs/);
+    ok([...args, '--resume']);
+    ok(['merge', join(killed, 'round-2'), '--out', killed]);
+    expect(readText(join(killed, 'summary.json'))).toBe(readText(join(afterRound2, 'summary.json')).replaceAll(out, killed));
+  });
+
   it('points a merge of the whole run folder to the round to merge', () => {
     refuses(['merge', afterRound2, '--out', afterRound2], new RegExp(`run folder of a trial-count sweep run in rounds \\(round-1, round-2, round-3\\); merge one round at a time, the round just run: lossprobe merge ${join(afterRound2, 'round-3')}`));
   });
