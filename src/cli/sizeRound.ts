@@ -21,7 +21,8 @@ import { firstRound, roundJobs, type RoundPlan, type SweepSettings } from '../en
 import { designFolderInRun, designFolderInShard, joinSizeRound, sweepOfShard } from '../engine/sizeShards.js';
 import { writeSweepRecord, type SweepRecord } from '../engine/sweepRecord.js';
 import { openRunFolder, prepareRunFolder } from './run.js';
-import { finishSweep, printSweep, type Sweep } from './size.js';
+import type { Sweep } from './size.js';
+import { finishSweep, printSweep } from './sizeFinish.js';
 import { shellQuote } from '../cluster/slurmScripts.js';
 import { UserError } from './userError.js';
 import type { NextRound } from './merge.js';
