@@ -95,11 +95,16 @@ export function hitOrMissLoss(window: number): LossFunction {
         const [sLo, sHi] = post.supportX;
         const cMin = Number.isFinite(sLo) ? sLo + window : -Infinity;
         const cMax = Number.isFinite(sHi) ? sHi - window : Infinity;
-        const a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
-        const b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
+        let a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
+        let b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
         const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-        const ga = g(a);
-        const gb = g(b);
+        let ga = g(a);
+        let gb = g(b);
+        // A window edge exactly on a support end where the density vanishes
+        // (gamma, shape > 1) gives g = ±∞ there: the sign is right but Brent's
+        // interpolation needs finite values, so step a hair inside.
+        if (a === cMin && ga === Infinity) ga = g((a += 1e-9 * (b - a)));
+        if (b === cMax && gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
         if (a === cMin && ga <= 0) return cMin;
         if (b === cMax && gb >= 0) return cMax;
         if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])));
