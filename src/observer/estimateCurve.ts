@@ -71,7 +71,7 @@ export class EstimateCurve {
       xs.push(at(k * h, guess));
     }
     let brk: number[] = new Array(vs.length).fill(0);
-    if (!closed) [vs, xs, brk] = this.refine(vs, xs, at, [xLo, xHi]);
+    if (!closed) [vs, xs, brk] = closeGaps(...this.refine(vs, xs, at, [xLo, xHi]));
     this.v = Float64Array.from(vs);
     this.xh = Float64Array.from(xs);
     this.breakAfter = Uint8Array.from(brk);
@@ -190,6 +190,40 @@ export function hermiteDerivative(vArr: Float64Array, xh: Float64Array, slope: F
   const t = (v - v0) / h;
   const t2 = t * t;
   return ((6 * t2 - 6 * t) * xh[i] + (-6 * t2 + 6 * t) * xh[i + 1]) / h + (3 * t2 - 4 * t + 1) * slope[i] + (3 * t2 - 2 * t) * slope[i + 1];
+}
+
+/**
+ * Refinement leaves each jump inside a gap segment of the finest width, whose
+ * two ends hold the two sides' values. Integrals that skip the gap would lose
+ * p(m | x) over it (measured: up to 1e-4 of the response density's total on
+ * bimodal designs). Shrink every gap to a point instead: each side is carried
+ * to the gap's midpoint by linear extrapolation (its error is quadratic in a
+ * width of ~1e-4 noise sds), leaving a zero-width break there, so every
+ * measurement belongs to one side or the other.
+ */
+function closeGaps(vs: number[], xs: number[], brk: number[]): [number[], number[], number[]] {
+  if (!brk.some((b, i) => b && vs[i + 1] > vs[i])) return [vs, xs, brk];
+  const nv: number[] = [];
+  const nx: number[] = [];
+  const nb: number[] = [];
+  const chord = (i: number, j: number) => (i >= 0 && j < vs.length && !brk[Math.min(i, j)] && vs[j] > vs[i] ? (xs[j] - xs[i]) / (vs[j] - vs[i]) : 0);
+  for (let i = 0; i < vs.length; i++) {
+    nv.push(vs[i]);
+    nx.push(xs[i]);
+    if (!(brk[i] && i + 1 < vs.length && vs[i + 1] > vs[i])) {
+      nb.push(brk[i]);
+      continue;
+    }
+    const c = 0.5 * (vs[i] + vs[i + 1]);
+    nb.push(0);
+    nv.push(c);
+    nx.push(xs[i] + chord(i - 1, i) * (c - vs[i]));
+    nb.push(1);
+    nv.push(c);
+    nx.push(xs[i + 1] - chord(i + 1, i + 2) * (vs[i + 1] - c));
+    nb.push(0);
+  }
+  return [nv, nx, nb];
 }
 
 /** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
