@@ -114,10 +114,19 @@ export function hitOrMissLoss(window: number): LossFunction {
     params: { window },
     loss: (e) => (Math.abs(e) < window ? 0 : 1),
     estimate: (post) => {
-      if (post.logConcave && post.exactAvailable) {
+      if (post.unimodal && post.exactAvailable) {
         // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
-        // within ε of the mode, so bracket there and skip the scan.
-        const j = post.peakNode();
+        // within ε of the mode, so bracket there and skip the scan. The mode
+        // of the density in x: with a log warp it differs from that in u.
+        let j = post.first;
+        let best = -Infinity;
+        for (let i = post.first; i <= post.last; i++) {
+          const fx = post.f[i] / post.warp.dxdu(post.u[i]);
+          if (fx > best) {
+            best = fx;
+            j = i;
+          }
+        }
         // A window cannot usefully stick out of the support: its centre stays
         // within [lower + ε, upper − ε], and sits at that end when the posterior
         // is still falling there (the mode is at or near the end).
