@@ -338,3 +338,39 @@ describe('schemas reject bad parameters and name the field', () => {
     expect(d.mean()).toBe(15);
   });
 });
+
+describe('the log-concavity flags hold as laws', () => {
+  // Concavity checked by second differences of the log-density on random triples
+  // (a law, no outside reference needed): in x for `logConcave`, and for the
+  // density of u = log X, log f(e^u) + u, for `logConcaveInLog`. Families whose
+  // flag is false must show a violation somewhere, so a flag set too
+  // generously, or too cautiously, fails the test.
+  const families: [string, Distribution, [number, number]][] = [
+    ['gamma k=3', new Gamma(3, 5), [0.05, 80]],
+    ['gamma k=0.5', new Gamma(0.5, 2), [0.01, 20]],
+    ['log-normal', new LogNormal(1, 0.5), [0.05, 30]],
+    ['uniform on [0.5, 4]', new Uniform(0.5, 4), [0.5, 4]],
+    ['gaussian', new Gaussian(3, 2), [-5, 11]],
+    ['mixture', new GaussianMixture([{ weight: 1, mean: -2, sd: 1 }, { weight: 2, mean: 3, sd: 1.5 }]), [-6, 8]],
+  ];
+  /** Largest second difference g(a) − 2g(m) + g(b) (with m the midpoint) over a fine sweep: > 0 breaks concavity. */
+  const worstBend = (g: (t: number) => number, lo: number, hi: number): number => {
+    let worst = -Infinity;
+    const n = 400;
+    for (let i = 1; i < n; i++) {
+      const h = (hi - lo) / n;
+      const t = lo + i * h;
+      const v = g(t - h) - 2 * g(t) + g(t + h);
+      if (Number.isFinite(v)) worst = Math.max(worst, v / Math.max(1, Math.abs(g(t))));
+    }
+    return worst;
+  };
+  it.each(families)('%s', (_name, d, [lo, hi]) => {
+    const inX = worstBend((x) => d.logPdf(x), lo, hi);
+    expect(inX <= 1e-9, `logConcave = ${d.logConcave}, worst bend in x ${inX}`).toBe(d.logConcave);
+    if (lo > 0) {
+      const inLog = worstBend((u) => d.logPdf(Math.exp(u)) + u, Math.log(lo), Math.log(hi));
+      expect(inLog <= 1e-9, `logConcaveInLog = ${d.logConcaveInLog}, worst bend in log x ${inLog}`).toBe(d.logConcaveInLog);
+    } else expect(d.logConcaveInLog).toBe(false);
+  });
+});

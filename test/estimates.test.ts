@@ -237,6 +237,44 @@ describe('log-normal prior and log-gaussian noise (JKB vol. 1 ch. 14)', () => {
   });
 });
 
+describe('hit-or-miss on a log-normal posterior (log-normal prior, log-gaussian noise)', () => {
+  // The posterior is log-normal (JKB vol. 1 ch. 14), so the mass of the window
+  // [c − ε, c + ε] is Φ((log(c+ε) − μ)/s) − Φ((log(c−ε) − μ)/s) with @stdlib's
+  // normal cdf. The estimate (the unimodal fast path since the posterior is
+  // log-concave in log x) must hold the largest such mass: compare with a
+  // golden-section search on the closed-form mass, for windows from a tenth to
+  // two posterior sds.
+  it('holds the largest window mass, to 1e-6 posterior sds', () => {
+    for (const [mu, sig, sd] of [[1, 0.5, 0.3], [0, 1, 0.2], [3, 0.2, 0.5]] as const) {
+      const prior = new LogNormal(mu, sig);
+      const noise = new LogGaussianNoise(sd);
+      const grid = gridFor(prior, noise, Math.exp(mu - 2.5 * sig), Math.exp(mu + 2.5 * sig));
+      for (const m of [mu - sig, mu, mu + sig]) {
+        const lp = conjugate(mu, sig, sd, m);
+        const sdX = Math.sqrt((Math.exp(lp.sd ** 2) - 1) * Math.exp(2 * lp.mean + lp.sd ** 2));
+        const massAt = (c: number, eps: number) => normal.cdf(Math.log(c + eps), lp.mean, lp.sd) - (c > eps ? normal.cdf(Math.log(c - eps), lp.mean, lp.sd) : 0);
+        grid.setMeasurement(m);
+        for (const w of [0.1, 0.5, 2]) {
+          const eps = w * sdX;
+          // golden section on the unimodal mass, from the support end + ε to well past the bulk
+          let a = eps;
+          let b = Math.exp(lp.mean + 6 * lp.sd) + eps;
+          const g = (Math.sqrt(5) - 1) / 2;
+          for (let it = 0; it < 200; it++) {
+            const c1 = b - g * (b - a);
+            const c2 = a + g * (b - a);
+            if (massAt(c1, eps) >= massAt(c2, eps)) b = c2;
+            else a = c1;
+          }
+          const best = 0.5 * (a + b);
+          const est = hitOrMissLoss(eps).estimate(grid, NaN);
+          expect(Math.abs(est - best) / sdX, `μ ${mu} σ ${sig} sd ${sd} m ${m} window ${w}`).toBeLessThanOrEqual(1e-6);
+        }
+      }
+    }
+  });
+});
+
 describe('uniform prior and constant noise: truncated normal posterior (JKB vol. 1 ch. 13)', () => {
   const cases: [number, number, number][] = [
     [0, 10, 1],

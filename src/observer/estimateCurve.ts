@@ -14,8 +14,14 @@ import { buildPosteriorGrid, measurementRange } from './gridFactory.js';
 import { closedFormEstimate, evaluateClosedForm } from './closedForm.js';
 import { segmentIndex } from '../numerics/search.js';
 
-/** Grid step in v (noise sds). */
-export const CURVE_STEP = 1;
+/**
+ * Base grid step in v (noise sds). The first refinement round checks, and
+ * keeps, every midpoint, so no stretch is sampled more coarsely than 1 sd;
+ * with fourth-order node slopes that meets the tolerance almost everywhere
+ * on smooth curves (measured: 58 estimates per curve on the benchmark case
+ * against 69 from a 1-sd base and 95 with three-point slopes).
+ */
+export const CURVE_STEP = 2;
 
 /** How far beyond the prior's support a motor-aware observer's convolved posterior reaches (9 motor sds). */
 export function motorReach(obs: Observer): number {
@@ -47,19 +53,25 @@ export class EstimateCurve {
     const kLo = Math.floor(warpM.toU(range.lo) / h);
     const kHi = Math.ceil(warpM.toU(range.hi) / h);
     const closed = closedFormEstimate(obs, noise);
-    let hint = NaN;
-    const at = (v: number): number => {
+    // Iterative estimators (power loss) converge in fewer steps from a close
+    // start: linear extrapolation along the base sweep, the interpolant's own
+    // prediction during refinement. The start never changes the answer beyond
+    // the solver's tolerance, and solvers keep their bracket, so a poor guess
+    // (a jump, a non-monotone curve) costs steps, not correctness.
+    const at = (v: number, hint: number): number => {
       const m = warpM.fromU(v);
-      return (hint = closed ? evaluateClosedForm(closed, m) : estimateAt(obs, grid, m, hint));
+      return closed ? evaluateClosedForm(closed, m) : estimateAt(obs, grid, m, hint);
     };
     let vs: number[] = [];
     let xs: number[] = [];
     for (let k = kLo; k <= kHi; k++) {
+      const n = xs.length;
+      const guess = n >= 2 ? 2 * xs[n - 1] - xs[n - 2] : n === 1 ? xs[0] : NaN;
       vs.push(k * h);
-      xs.push(at(k * h));
+      xs.push(at(k * h, guess));
     }
     let brk: number[] = new Array(vs.length).fill(0);
-    if (!closed) [vs, xs, brk] = this.refine(vs, xs, at, [xLo, xHi]);
+    if (!closed) [vs, xs, brk] = closeGaps(...this.refine(vs, xs, at, [xLo, xHi]));
     this.v = Float64Array.from(vs);
     this.xh = Float64Array.from(xs);
     this.breakAfter = Uint8Array.from(brk);
@@ -93,7 +105,7 @@ export class EstimateCurve {
     return Math.min(mA, mB) < n.center(xLo) && Math.max(mA, mB) > n.center(xHi);
   }
 
-  private refine(vs: number[], xs: number[], at: (v: number) => number, xLoHi: readonly [number, number]): [number[], number[], number[]] {
+  private refine(vs: number[], xs: number[], at: (v: number, hint: number) => number, xLoHi: readonly [number, number]): [number[], number[], number[]] {
     // Never below the estimate's own numerical noise (~1e-8 of its magnitude).
     const tol = Math.max(REFINE_TOL * this.obs.motorSd, 1e-7 * Math.max(...xs.map(Math.abs)));
     let brk = new Array(vs.length).fill(0);
@@ -124,7 +136,7 @@ export class EstimateCurve {
         }
         const vm = 0.5 * (vs[i] + vs[i + 1]);
         const pred = hermite(v, x, sl, i, vm);
-        const actual = at(vm);
+        const actual = at(vm, pred);
         const failed = Math.abs(pred - actual) > tol;
         if (failed && round === MAX_REFINE_ROUNDS - 1 && Math.abs(pred - actual) > JUMP_FACTOR * tol) {
           // Finest width reached and still no agreement: a jump. Split at the
@@ -180,6 +192,40 @@ export function hermiteDerivative(vArr: Float64Array, xh: Float64Array, slope: F
   return ((6 * t2 - 6 * t) * xh[i] + (-6 * t2 + 6 * t) * xh[i + 1]) / h + (3 * t2 - 4 * t + 1) * slope[i] + (3 * t2 - 2 * t) * slope[i + 1];
 }
 
+/**
+ * Refinement leaves each jump inside a gap segment of the finest width, whose
+ * two ends hold the two sides' values. Integrals that skip the gap would lose
+ * p(m | x) over it (measured: up to 1e-4 of the response density's total on
+ * bimodal designs). Shrink every gap to a point instead: each side is carried
+ * to the gap's midpoint by linear extrapolation (its error is quadratic in a
+ * width of ~1e-4 noise sds), leaving a zero-width break there, so every
+ * measurement belongs to one side or the other.
+ */
+function closeGaps(vs: number[], xs: number[], brk: number[]): [number[], number[], number[]] {
+  if (!brk.some((b, i) => b && vs[i + 1] > vs[i])) return [vs, xs, brk];
+  const nv: number[] = [];
+  const nx: number[] = [];
+  const nb: number[] = [];
+  const chord = (i: number, j: number) => (i >= 0 && j < vs.length && !brk[Math.min(i, j)] && vs[j] > vs[i] ? (xs[j] - xs[i]) / (vs[j] - vs[i]) : 0);
+  for (let i = 0; i < vs.length; i++) {
+    nv.push(vs[i]);
+    nx.push(xs[i]);
+    if (!(brk[i] && i + 1 < vs.length && vs[i + 1] > vs[i])) {
+      nb.push(brk[i]);
+      continue;
+    }
+    const c = 0.5 * (vs[i] + vs[i + 1]);
+    nb.push(0);
+    nv.push(c);
+    nx.push(xs[i] + chord(i - 1, i) * (c - vs[i]));
+    nb.push(1);
+    nv.push(c);
+    nx.push(xs[i + 1] - chord(i + 1, i + 2) * (vs[i + 1] - c));
+    nb.push(0);
+  }
+  return [nv, nx, nb];
+}
+
 /** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
 const REFINE_TOL = 1e-4;
 const MAX_REFINE_ROUNDS = 14;
@@ -196,20 +242,48 @@ export function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Arra
   return (2 * t3 - 3 * t2 + 1) * xh[i] + (t3 - 2 * t2 + t) * h * slope[i] + (-2 * t3 + 3 * t2) * xh[i + 1] + (t3 - t2) * h * slope[i + 1];
 }
 
-/** Three-point (non-uniform) derivative estimates within each unbroken piece. */
+/**
+ * Node slopes for the Hermite pieces: the derivative of the polynomial through
+ * up to five neighbouring nodes of the same unbroken piece (centred where the
+ * piece allows), on the non-uniform spacing refinement leaves (Fornberg 1988,
+ * Math. Comp. 51:699, the Lagrange form). Fourth-order slopes make the cubic
+ * pieces fourth-order accurate; three-point slopes (second order) left the
+ * interpolation error at ~1e-3 log-likelihood units on 300 trials and needed
+ * about a third more estimates to meet the refinement tolerance.
+ */
 function computeSlopes(v: Float64Array, xh: Float64Array, breakAfter: Uint8Array, slope: Float64Array): void {
   const n = v.length;
+  const joined = (k: number) => k >= 0 && k < n - 1 && !breakAfter[k] && v[k + 1] > v[k];
   for (let i = 0; i < n; i++) {
-    const hasL = i > 0 && !breakAfter[i - 1] && v[i] > v[i - 1];
-    const hasR = i < n - 1 && !breakAfter[i] && v[i + 1] > v[i];
-    if (hasL && hasR) {
-      const h0 = v[i] - v[i - 1];
-      const h1 = v[i + 1] - v[i];
-      const d0 = (xh[i] - xh[i - 1]) / h0;
-      const d1 = (xh[i + 1] - xh[i]) / h1;
-      slope[i] = (h1 * d0 + h0 * d1) / (h0 + h1);
-    } else if (hasR) slope[i] = (xh[i + 1] - xh[i]) / (v[i + 1] - v[i]);
-    else if (hasL) slope[i] = (xh[i] - xh[i - 1]) / (v[i] - v[i - 1]);
-    else slope[i] = 0;
+    let lo = i;
+    let hi = i;
+    // Grow the stencil by one node at a time, alternating sides, up to five.
+    while (hi - lo < 4) {
+      const canL = joined(lo - 1);
+      const canR = joined(hi);
+      if (!canL && !canR) break;
+      if (canL && (!canR || i - lo <= hi - i)) lo--;
+      else hi++;
+    }
+    slope[i] = hi > lo ? lagrangeDerivative(v, xh, lo, hi, i) : 0;
   }
+}
+
+/** Derivative at v[i] of the polynomial through the nodes lo..hi (i among them). */
+function lagrangeDerivative(v: Float64Array, y: Float64Array, lo: number, hi: number, i: number): number {
+  const xi = v[i];
+  let d = 0;
+  for (let j = lo; j <= hi; j++) {
+    if (j === i) continue;
+    // L_j′(x_i) = Π_{k≠i,j}(x_i − x_k) / Π_{k≠j}(x_j − x_k)
+    let num = 1;
+    let den = v[j] - xi;
+    for (let k = lo; k <= hi; k++) {
+      if (k === i || k === j) continue;
+      num *= xi - v[k];
+      den *= v[j] - v[k];
+    }
+    d += (y[j] - y[i]) * (num / den);
+  }
+  return d;
 }

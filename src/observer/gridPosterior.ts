@@ -83,6 +83,14 @@ export class GridPosterior {
    * It stays log-concave under the motor-noise convolution.
    */
   readonly logConcave: boolean;
+  /**
+   * The posterior is unimodal for every measurement: log-concave in the warped
+   * coordinate, where the noise is Gaussian with constant sd (a log-concave
+   * prior with constant noise, or a prior log-concave in log x with noise
+   * Gaussian in log space). Its mass then sits around the likelihood peak and
+   * a window's best position is found without a global scan.
+   */
+  readonly unimodal: boolean;
 
   constructor(setup: GridSetup) {
     const { prior, noise, warp } = setup;
@@ -90,6 +98,7 @@ export class GridPosterior {
     this.prior = prior;
     this.noise = noise;
     this.logConcave = prior.logConcave && noise.family === 'constant';
+    this.unimodal = this.logConcave || (prior.logConcaveInLog && noise.family === 'log-gaussian');
     const sLo = Number.isFinite(prior.support[0]) ? warp.toU(prior.support[0]) : -Infinity;
     const sHi = Number.isFinite(prior.support[1]) ? warp.toU(prior.support[1]) : Infinity;
     this.supportU = [sLo, sHi];
@@ -180,10 +189,10 @@ export class GridPosterior {
     const J = this.nNodes;
     this.measurement = m;
     this.exactAvailable = true;
-    // With a log-concave prior the posterior is unimodal and sits within a few
-    // noise sds of the likelihood peak: evaluate only there, and fall back to
-    // every node when the window's edges still carry mass.
-    if (this.prior.logConcave) {
+    // With a log-concave prior (or a unimodal posterior in u) the posterior sits
+    // within a few noise sds of the likelihood peak: evaluate only there, and
+    // fall back to every node when the window's edges still carry mass.
+    if (this.prior.logConcave || this.unimodal) {
       const uPeak = this.warp.toU(this.noise.stimulusAt(m));
       if (Number.isFinite(uPeak)) {
         // Whole panels: normalise works panel by panel and must never read a

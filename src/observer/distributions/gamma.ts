@@ -19,6 +19,8 @@ export class Gamma implements Distribution {
   readonly family = 'gamma';
   readonly support = [0, Infinity] as const;
   readonly logConcave: boolean;
+  /** log X has density ∝ exp(k·u − e^u/θ), concave in u for every shape. */
+  readonly logConcaveInLog = true;
   private readonly logNorm: number;
   constructor(readonly shape: number, readonly scale: number) {
     this.logNorm = jStat.gammaln(shape) + shape * Math.log(scale);

@@ -18,6 +18,8 @@ export class Gaussian implements Distribution {
   readonly family = 'gaussian';
   readonly support = [-Infinity, Infinity] as const;
   readonly logConcave = true;
+  /** The support includes x ≤ 0, where log X does not exist. */
+  readonly logConcaveInLog = false;
   private readonly logSd: number;
   constructor(readonly mu: number, readonly sd: number) {
     this.logSd = Math.log(sd);

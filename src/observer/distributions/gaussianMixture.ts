@@ -25,6 +25,7 @@ export class GaussianMixture implements Distribution {
   readonly family = 'gaussian-mixture';
   readonly support = [-Infinity, Infinity] as const;
   readonly logConcave: boolean;
+  readonly logConcaveInLog = false;
   private readonly logW: number[];
   private readonly w: number[];
   private readonly mu: number[];

@@ -19,6 +19,8 @@ export class LogNormal implements Distribution {
   readonly support = [0, Infinity] as const;
   // log-concave in x only for small sigma; we never rely on it.
   readonly logConcave = false;
+  /** log X is Gaussian. */
+  readonly logConcaveInLog = true;
   private readonly logSigma: number;
   constructor(readonly mu: number, readonly sigma: number) {
     this.logSigma = Math.log(sigma);

@@ -21,4 +21,11 @@ export interface Distribution {
   featureScale(): number;
   /** True when log-density is concave (so posteriors under log-concave likelihoods are unimodal). */
   readonly logConcave: boolean;
+  /**
+   * True when the density of log X (Jacobian included) is log-concave, so
+   * that with noise Gaussian in log space every posterior is unimodal. Gamma
+   * (any shape), log-normal and uniform priors on positive supports have it
+   * although only some are log-concave in x.
+   */
+  readonly logConcaveInLog: boolean;
 }

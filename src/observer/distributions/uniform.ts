@@ -19,10 +19,13 @@ export class Uniform implements Distribution {
   readonly family = 'uniform';
   readonly support: readonly [number, number];
   readonly logConcave = true;
+  /** On a positive support log X has density ∝ e^u on an interval: log-linear. */
+  readonly logConcaveInLog: boolean;
   private readonly logWidth: number;
   constructor(readonly lower: number, readonly upper: number) {
     this.support = [lower, upper];
     this.logWidth = Math.log(upper - lower);
+    this.logConcaveInLog = lower >= 0;
   }
   logPdf(x: number): number {
     return x >= this.lower && x <= this.upper ? -this.logWidth : -Infinity;

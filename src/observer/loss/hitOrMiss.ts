@@ -60,18 +60,47 @@ export function maximiseOverNodes(post: GridPosterior, objective: (c: number) =>
 /**
  * Polish a window centre with the stationarity condition f(c+ε) = f(c−ε) on
  * the exact posterior density, which is flat-free unlike the window mass itself.
+ * When the posterior is much narrower than the window, every centre covering
+ * it holds the same mass: the maximisers form a plateau and the optimiser's
+ * landing point on it is arbitrary (it flipped between plateau points from one
+ * measurement to the next, and the estimate curve chased those flips as
+ * jumps). The stationarity root, the limit of a smooth window's optimum, is
+ * unique on the plateau and moves continuously with the measurement, so the
+ * bracket is widened across the plateau before solving.
  */
 function polish(post: GridPosterior, c0: number, window: number): number {
   if (!post.exactAvailable) return c0;
   const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-  const j = Math.max(post.first, Math.min(post.last, nearestNode(post, c0)));
-  const a = post.x[Math.max(post.first, j - 2)];
-  const b = post.x[Math.min(post.last, j + 2)];
-  const ga = g(a);
-  const gb = g(b);
+  const held = (c: number) => post.massBetween(c - window, c + window);
+  const top = held(c0);
+  // First centre off the plateau on each side, by doubling steps (the plateau
+  // can be wider than the posterior's node window, and is at most 2ε wide).
+  const edge = (dir: number): number => {
+    let c = c0;
+    for (let step = window / 64; step <= 4 * window; step *= 2) {
+      const t = c + dir * step;
+      if (held(t) < top - PLATEAU_TOL) return t;
+      c = t;
+    }
+    return c;
+  };
+  // A centre closer to a support end than ε only loses mass (see hitOrMissLoss).
+  const [sLo, sHi] = post.supportX;
+  let a = Math.max(edge(-1), Number.isFinite(sLo) ? sLo + window : -Infinity);
+  let b = Math.min(edge(1), Number.isFinite(sHi) ? sHi - window : Infinity);
+  if (!(b > a)) return c0;
+  let ga = g(a);
+  let gb = g(b);
+  if (ga === Infinity) ga = g((a += 1e-9 * (b - a)));
+  if (gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
   if (!(Number.isFinite(ga) && Number.isFinite(gb)) || ga * gb > 0) return c0;
-  return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(c0)));
+  const c = brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(c0)), 200, { fa: ga, fb: gb });
+  // On a plateau the root holds the top mass too; elsewhere only keep a root that does.
+  return held(c) >= top - PLATEAU_TOL ? c : c0;
 }
+
+/** Window masses this close to the best count as tied: the panel polynomials give window masses to about 1e-8 where a window edge sits in a far tail (measured: masses of 1 + 1.3e-8). */
+const PLATEAU_TOL = 1e-7;
 
 function nearestNode(post: GridPosterior, c: number): number {
   let best = post.first;
@@ -85,21 +114,35 @@ export function hitOrMissLoss(window: number): LossFunction {
     params: { window },
     loss: (e) => (Math.abs(e) < window ? 0 : 1),
     estimate: (post) => {
-      if (post.logConcave && post.exactAvailable) {
+      if (post.unimodal && post.exactAvailable) {
         // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
-        // within ε of the mode, so bracket there and skip the scan.
-        const j = post.peakNode();
+        // within ε of the mode, so bracket there and skip the scan. The mode
+        // of the density in x: with a log warp it differs from that in u.
+        let j = post.first;
+        let best = -Infinity;
+        for (let i = post.first; i <= post.last; i++) {
+          const fx = post.f[i] / post.warp.dxdu(post.u[i]);
+          if (fx > best) {
+            best = fx;
+            j = i;
+          }
+        }
         // A window cannot usefully stick out of the support: its centre stays
         // within [lower + ε, upper − ε], and sits at that end when the posterior
         // is still falling there (the mode is at or near the end).
         const [sLo, sHi] = post.supportX;
         const cMin = Number.isFinite(sLo) ? sLo + window : -Infinity;
         const cMax = Number.isFinite(sHi) ? sHi - window : Infinity;
-        const a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
-        const b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
+        let a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
+        let b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
         const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-        const ga = g(a);
-        const gb = g(b);
+        let ga = g(a);
+        let gb = g(b);
+        // A window edge exactly on a support end where the density vanishes
+        // (gamma, shape > 1) gives g = ±∞ there: the sign is right but Brent's
+        // interpolation needs finite values, so step a hair inside.
+        if (a === cMin && ga === Infinity) ga = g((a += 1e-9 * (b - a)));
+        if (b === cMax && gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
         if (a === cMin && ga <= 0) return cMin;
         if (b === cMax && gb >= 0) return cMax;
         if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])));

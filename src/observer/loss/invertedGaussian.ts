@@ -29,10 +29,17 @@ export const invertedGaussianParameters: LossParameter[] = [
  * of sums where a minimiser of the value needs dozens (and stalls near √ε_mach).
  */
 let kernelOffset = NaN;
+/**
+ * Set with kernelOffset: the kernel-weighted variance of x. The derivative of
+ * the offset in c is variance/ε² − 1 (differentiate the Gaussian weights), the
+ * slope Newton's method needs, from the same sum.
+ */
+let kernelSpread = NaN;
 
 /** ∫ f(x) exp(−(c−x)²/(2ε²)) dx up to a constant (and kernelOffset as a by-product). */
 function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow: boolean, ref: number): number {
   kernelOffset = NaN;
+  kernelSpread = NaN;
   if (narrow) {
     // Kernel narrower than the panels: integrate the kernel by Gauss–Hermite
     // against the exact posterior density (or the panel polynomials after a
@@ -49,6 +56,7 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     const sHi = post.warp.fromU(post.exactAvailable ? post.supportU[1] : post.panelStart[post.lastPanel] + 2 * post.panelHalf[post.lastPanel]);
     const reach = 8 * width;
     let acc1 = 0;
+    let acc2 = 0;
     if (c - reach < sLo || c + reach > sHi) {
       const lo = Math.max(sLo, c - reach);
       const hi = Math.min(sHi, c + reach);
@@ -65,9 +73,11 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
           const t = gl.weights[k] * dens * Math.exp(-0.5 * z * z);
           acc += t;
           acc1 += t * (x - c);
+          acc2 += t * (x - c) * (x - c);
         }
       }
       kernelOffset = acc1 / acc;
+      kernelSpread = acc2 / acc - kernelOffset * kernelOffset;
       return acc * half;
     }
     for (let k = 0; k < gh.nodes.length; k++) {
@@ -75,14 +85,17 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
       const t = gh.weights[k] * (post.exactAvailable ? Math.exp(post.exactLogDensity(x) - ref) : post.densityX(x));
       acc += t;
       acc1 += t * (x - c);
+      acc2 += t * (x - c) * (x - c);
     }
     kernelOffset = acc1 / acc;
+    kernelSpread = acc2 / acc - kernelOffset * kernelOffset;
     return acc * s;
   }
   const inv = 1 / (2 * width * width);
   const cut = 40 * width * width;
   let acc = 0;
   let acc1 = 0;
+  let acc2 = 0;
   for (let j = post.first; j <= post.last; j++) {
     const d = post.x[j] - c;
     const d2 = d * d;
@@ -90,10 +103,44 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
       const t = post.mass[j] * Math.exp(-d2 * inv);
       acc += t;
       acc1 += t * d;
+      acc2 += t * d2;
     }
   }
   kernelOffset = acc1 / acc;
+  kernelSpread = acc2 / acc - kernelOffset * kernelOffset;
   return acc;
+}
+
+/**
+ * Newton's method on the offset (decreasing in c, zero at the maximum) from a
+ * neighbouring measurement's estimate, kept inside [lo, hi], which holds the
+ * root for log-concave posteriors: mode and mean bracket the maximum. The
+ * slope comes with the offset (kernelSpread). NaN when the hint is unusable or
+ * the iteration does not settle; the caller then brackets with Brent's method.
+ */
+function newtonOffset(objective: (c: number) => number, hint: number, lo: number, hi: number, tol: number, width: number): number {
+  if (!(hint > lo && hint < hi)) return NaN;
+  const inv2 = 1 / (width * width);
+  let c = hint;
+  for (let it = 0; it < 12; it++) {
+    objective(c);
+    const off = kernelOffset;
+    const slope = kernelSpread * inv2 - 1;
+    if (!Number.isFinite(off) || !(slope < 0)) return NaN;
+    if (off === 0) return c;
+    if (off > 0) lo = c;
+    else hi = c;
+    let next = c - off / slope;
+    const newton = next > lo && next < hi;
+    if (!newton) next = 0.5 * (lo + hi);
+    const step = next - c;
+    if (Math.abs(step) <= tol) return next;
+    // Quadratic convergence: an error of order step²/(posterior scale) remains,
+    // far below tol once the step is this small (see power.ts, newtonRoot).
+    if (newton && step * step <= 1e-3 * tol * width) return next;
+    c = next;
+  }
+  return NaN;
 }
 
 export function invertedGaussianLoss(width: number): LossFunction {
@@ -101,7 +148,7 @@ export function invertedGaussianLoss(width: number): LossFunction {
     family: 'inverted-gaussian',
     params: { width },
     loss: (e) => 1 - Math.exp((-e * e) / (2 * width * width)),
-    estimate: (post) => {
+    estimate: (post, hint) => {
       // Narrow regime when ε is below half a panel (in x) where the posterior peaks;
       // the node sum needs several nodes per kernel width.
       let jMax = post.first;
@@ -119,6 +166,9 @@ export function invertedGaussianLoss(width: number): LossFunction {
         const lo = Math.min(mean, post.x[Math.max(post.first, jMax - 1)]);
         const hi = Math.max(mean, post.x[Math.min(post.last, jMax + 1)]);
         const offset = (c: number) => (objective(c), kernelOffset);
+        const tol = 1e-13 * Math.max(1, Math.abs(mean));
+        const root = newtonOffset(objective, hint, lo, hi, tol, width);
+        if (Number.isFinite(root)) return root;
         const fa = offset(lo);
         const fb = offset(hi);
         if (fa >= 0 && fb <= 0) return brentRoot(offset, lo, hi, 1e-13 * Math.max(1, Math.abs(mean)), 200, { fa, fb });

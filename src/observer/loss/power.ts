@@ -44,7 +44,7 @@ function absPow(t: number, a: number): number {
  */
 let slopeSum = 0;
 
-export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd: boolean, kernelRow: Float64Array | null = null): number {
+export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd: boolean): number {
   const n = NODES_PER_PANEL;
   const xs = post.x;
   const mass = post.mass;
@@ -59,7 +59,7 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   for (let j = post.first; j <= post.last; j++) {
     if (j >= jLo && j <= jHi) continue;
     const d = c - xs[j];
-    const k = kernelRow ? kernelRow[j] : absPow(d, a);
+    const k = absPow(d, a);
     s += mass[j] * (odd && d < 0 ? -k : k);
     if (odd && d !== 0) s1 += (mass[j] * k) / Math.abs(d);
   }
@@ -84,7 +84,7 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   }
   for (let j = jLo; j <= jHi; j++) {
     const d = c - xs[j];
-    const k = kernelRow ? kernelRow[j] : absPow(d, a);
+    const k = absPow(d, a);
     const sd = -d; // x − c
     const taylor = g0 + g1 * sd + 0.5 * g2 * sd * sd;
     const dxdu = post.warp.dxdu(post.u[j]);
@@ -111,7 +111,7 @@ function oddAnti(t: number, b: number): number {
  * a·slopeSum; bisection whenever a step leaves the bracket. Returns NaN when it
  * does not settle (the caller then brackets and uses Brent's method).
  */
-function newtonRoot(post: GridPosterior, a: number, start: number, lo: number, hi: number): number {
+function newtonRoot(post: GridPosterior, a: number, start: number, lo: number, hi: number, scale: number): number {
   const tol = 1e-12 * Math.max(1, Math.abs(start));
   let x = start;
   for (let it = 0; it < 40; it++) {
@@ -122,8 +122,16 @@ function newtonRoot(post: GridPosterior, a: number, start: number, lo: number, h
     else hi = x;
     const dg = a * slopeSum;
     let next = dg > 0 ? x - gx / dg : NaN;
-    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
-    if (Math.abs(next - x) <= tol) return next;
+    const newton = next > lo && next < hi;
+    if (!newton) next = 0.5 * (lo + hi);
+    const step = next - x;
+    if (Math.abs(step) <= tol) return next;
+    // Newton's error after a step is about |g″/2g′|·step² (quadratic
+    // convergence; e.g. Dennis & Schnabel, Numerical Methods for Unconstrained
+    // Optimization, Thm 2.4.3), and |g″/g′| is of order 1/(posterior sd) here.
+    // A step this small therefore leaves an error far below tol: stop without
+    // paying for one more expectation just to confirm it.
+    if (newton && step * step <= 1e-3 * tol * scale) return next;
     x = next;
   }
   return NaN;
@@ -139,10 +147,14 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
   const mean = post.mean();
   let start = Number.isFinite(hint) && hint > lo0 && hint < hi0 ? hint : mean;
   if (p - 1 >= NEWTON_MIN_A) {
-    const root = newtonRoot(post, p - 1, start, lo0, hi0);
+    let v = 0;
+    for (let j = post.first; j <= post.last; j++) v += post.mass[j] * (post.x[j] - mean) ** 2;
+    const root = newtonRoot(post, p - 1, start, lo0, hi0, Math.sqrt(v));
     if (Number.isFinite(root)) return root;
   }
-  let step = 0.05 * (hi0 - lo0);
+  // Curve hints are usually within 1e-4 of the root: a tight first bracket
+  // saves Brent several steps, and doubling finds a wide one in a few more.
+  let step = (Number.isFinite(hint) ? 0.002 : 0.05) * (hi0 - lo0);
   let a = Math.max(lo0, start - step);
   let b = Math.min(hi0, start + step);
   let ga = g(a);
@@ -167,31 +179,93 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
 }
 
 /**
- * Rows |x_j − x_i|^p of the node-to-node kernel, per posterior grid and
- * exponent. The scan of nonConvexEstimate evaluates the expected loss at
- * nodes, and every measurement of an estimate curve shares the grid, so each
- * row is computed once per curve instead of once per scan point. Only for
- * grids small enough that all rows fit comfortably in memory.
+ * Per posterior grid and exponent, for scan nodes j: the row |x_j − x_i|^p of
+ * the node-to-node kernel, and the three geometric coefficients of the
+ * singularity subtraction at c = x_j. With c on a node, kinkedExpectation's
+ * value is Σ_i mass_i·row_i + g0·k0 + g1·k1 + g2·k2, where g0..g2 are the
+ * density and its derivatives at c and k0..k2 depend only on where the node
+ * sits among the panels (the subtracted Taylor terms' exact integrals minus
+ * their node sums). Every measurement of a curve shares the grid, so each
+ * node's row and coefficients are computed once per curve, and a scan point
+ * costs one dot product and the three densities. Only for grids small enough
+ * that all rows fit comfortably in memory.
  */
 const MAX_CACHED_NODES = 1500;
-const kernelRows = new WeakMap<GridPosterior, { p: number; rows: (Float64Array | undefined)[] }>();
+interface ScanNode {
+  row: Float64Array;
+  k0: number;
+  k1: number;
+  k2: number;
+}
+const scanCache = new WeakMap<GridPosterior, { p: number; nodes: (ScanNode | undefined)[] }>();
 
-function kernelRow(post: GridPosterior, j: number, p: number): Float64Array | null {
+function scanNode(post: GridPosterior, j: number, p: number): ScanNode | null {
   if (post.nNodes > MAX_CACHED_NODES) return null;
-  let cache = kernelRows.get(post);
+  let cache = scanCache.get(post);
   if (!cache || cache.p !== p) {
-    cache = { p, rows: new Array(post.nNodes) };
-    kernelRows.set(post, cache);
+    cache = { p, nodes: new Array(post.nNodes) };
+    scanCache.set(post, cache);
   }
-  let row = cache.rows[j];
-  if (!row) {
-    row = new Float64Array(post.nNodes);
+  let node = cache.nodes[j];
+  if (!node) {
     const xs = post.x;
     const c = xs[j];
-    for (let i = 0; i < row.length; i++) row[i] = absPow(c - xs[i], p);
-    cache.rows[j] = row;
+    // Entries are filled on first use (NaN until then): a scan node only ever
+    // meets the nodes of the posterior windows that contain it.
+    const row = new Float64Array(post.nNodes).fill(NaN);
+    // The three panels around c, as kinkedExpectation takes them (unclipped).
+    const n = NODES_PER_PANEL;
+    const pc = Math.floor(j / n);
+    const pLo = Math.max(0, pc - 1);
+    const pHi = Math.min(post.nPanels - 1, pc + 1);
+    const XA = post.warp.fromU(post.panelStart[pLo]) - c;
+    const XB = post.warp.fromU(post.panelStart[pHi] + 2 * post.panelHalf[pHi]) - c;
+    let s0 = 0;
+    let s1 = 0;
+    let s2 = 0;
+    for (let i = pLo * n; i <= pHi * n + n - 1; i++) {
+      row[i] = absPow(c - xs[i], p);
+      const w = post.quadWeight[i] * row[i] * post.warp.dxdu(post.u[i]);
+      const d = xs[i] - c;
+      s0 += w;
+      s1 += w * d;
+      s2 += w * d * d;
+    }
+    node = {
+      row,
+      k0: evenAnti(XB, p) - evenAnti(XA, p) - s0,
+      k1: oddAnti(XB, p + 1) - oddAnti(XA, p + 1) - s1,
+      k2: 0.5 * (evenAnti(XB, p + 2) - evenAnti(XA, p + 2) - s2),
+    };
+    cache.nodes[j] = node;
   }
-  return row;
+  return node;
+}
+
+/** kinkedExpectation(post, x_j, p, false) from the cached scan node (same value up to rounding). */
+function scanExpectation(post: GridPosterior, j: number, p: number): number {
+  const n = NODES_PER_PANEL;
+  const pc = Math.floor(j / n);
+  const node = pc - 1 >= post.firstPanel && pc + 1 <= post.lastPanel ? scanNode(post, j, p) : null;
+  if (!node) return kinkedExpectation(post, post.x[j], p, false);
+  const { row } = node;
+  const mass = post.mass;
+  let s = 0;
+  const c = post.x[j];
+  const xs = post.x;
+  for (let i = post.first; i <= post.last; i++) {
+    let k = row[i];
+    if (k !== k) k = row[i] = absPow(c - xs[i], p);
+    s += mass[i] * k;
+  }
+  const uc = post.u[j];
+  const hx = 1e-3 * post.panelHalf[pc] * post.warp.dxdu(uc);
+  const g0 = post.densityX(c);
+  const gp = post.densityX(c + hx);
+  const gm = post.densityX(c - hx);
+  const g1 = (gp - gm) / (2 * hx);
+  const g2 = (gp - 2 * g0 + gm) / (hx * hx);
+  return s + g0 * node.k0 + g1 * node.k1 + g2 * node.k2;
 }
 
 function nonConvexEstimate(post: GridPosterior, p: number): number {
@@ -200,10 +274,23 @@ function nonConvexEstimate(post: GridPosterior, p: number): number {
   const js: number[] = [];
   const vs: number[] = [];
   // Scan nodes are multiples of the stride, so every measurement of a curve
-  // reuses the same kernel rows.
-  for (let j = Math.ceil(post.first / stride) * stride; j <= post.last; j += stride) {
+  // reuses the same cached rows. Where the window's first or last panel is a
+  // far tail (densities below 1e-12 of the peak: no minimum of the expected
+  // loss lies there) it is left out, which keeps every other scan node's panel
+  // neighbourhood whole, as the cached coefficients assume; a panel cut by a
+  // support end is scanned (by the uncached path).
+  const n = NODES_PER_PANEL;
+  const fPeak = post.f[post.peakNode()];
+  const negligible = (from: number) => {
+    for (let i = from; i < from + n; i++) if (post.f[i] > 1e-12 * fPeak) return false;
+    return true;
+  };
+  const wide = post.last - post.first + 1 > 3 * n;
+  const jFirst = wide && negligible(post.first) ? post.first + n : post.first;
+  const jLast = wide && negligible(post.last - n + 1) ? post.last - n : post.last;
+  for (let j = Math.ceil(jFirst / stride) * stride; j <= jLast; j += stride) {
     js.push(j);
-    vs.push(kinkedExpectation(post, post.x[j], p, false, kernelRow(post, j, p)));
+    vs.push(scanExpectation(post, j, p));
   }
   // Refine every local minimum of the scan that comes close to the lowest: near
   // a switch between posterior modes two of them are nearly equal, and only
