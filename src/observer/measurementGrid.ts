@@ -53,6 +53,14 @@ const SUBSTEP = 1;
 const MAX_SUB = 4000;
 /** Measurements beyond this many sensory sds of the stimulus are never integrated over. */
 export const SENSORY_WINDOW = 8.5;
+/**
+ * The steepest x̂ is sought within this many sensory sds of the design's
+ * stimuli: beyond it the sensory factor is below e^−12.5 ≈ 4e−6 of its peak,
+ * so a coarser rule there costs nothing measurable, while x̂ often steepens
+ * fast outside the data (log-normal priors: exponentially), which would
+ * otherwise set a needlessly fine step.
+ */
+const SLOPE_WINDOW = 5;
 
 /** A segment of one rule that gets sub-steps: from node `left` to node `right`. */
 interface SubSegment {
@@ -80,6 +88,21 @@ export class MeasurementGrid {
   readonly weight: Float64Array;
   /** Σ_k emc[k]·g′(v_k) is the Euler–Maclaurin correction of the whole rule; 0 wherever the grid is uniform. */
   readonly emc: Float64Array;
+  /**
+   * Monotone runs of x̂: run i covers nodes runStart[i] … runStart[i+1]
+   * (the turning node belongs to both), rising where runUp[i] = 1. Within a
+   * run, the nodes near a response are found by bisection on x̂.
+   */
+  readonly runStart: Int32Array;
+  readonly runUp: Uint8Array;
+  /**
+   * Nodes where the plain uniform rule does not hold (piece ends, a nonzero
+   * Euler–Maclaurin coefficient, a sub-stepped segment, a blended grid),
+   * counted as a prefix sum: [a, b] is regular iff irregular[b + 1] = irregular[a].
+   */
+  readonly irregular: Int32Array;
+  /** Per-node scratch space for a trial's exponents (shares the grid's store). */
+  readonly scratch: Float64Array;
   /** Sub-stepped segments, sorted by left node: nodes, x̂ range, points subFrom[s] … subTo[s] − 1 (subFrom = −1 until built). */
   readonly subLeft: Int32Array;
   readonly subRight: Int32Array;
@@ -109,92 +132,109 @@ export class MeasurementGrid {
     this.step = h;
     const { v: cv, xh: cx, slope: cs, breakAfter } = curve;
     const nc = cv.length;
-    const vs: number[] = [];
-    const xs: number[] = [];
-    const ss: number[] = [];
-    const seg: number[] = [];
-    /** Lattice index of a node (v = index·h), or NaN for a piece end. */
-    const lattice: number[] = [];
-    const pieces: [number, number][] = [];
     const eps = 1e-9 * h;
-    const push = (u: number, j: number, k: number) => {
-      vs.push(u);
-      xs.push(hermite(cv, cx, cs, j, u));
-      ss.push(hermiteDerivative(cv, cx, cs, j, u));
-      seg.push(j);
-      lattice.push(k);
-    };
+
+    // Pieces between jumps, each end moved to the middle of the gap that refinement left at a jump
+    // (the jump lies somewhere inside it; x̂ there is the piece's cubic extrapolated across at most
+    // half a gap), so no measurement is left out. A lone node between two jumps (refinement
+    // closing in on one jump can leave one) holds its x̂ across its two half-gaps.
+    const pieceFrom: number[] = [];
+    const pieceTo: number[] = [];
+    let cap = 0;
     for (let p0 = 0; p0 < nc; ) {
       let p1 = p0;
       while (p1 < nc - 1 && !breakAfter[p1]) p1++;
-      if (p1 === p0) {
-        // A lone node between two jumps (refinement closing in on one jump can leave one): x̂ held
-        // at its value from the middle of the gap on its left to the middle of the gap on its right.
-        const a = p0 > 0 ? 0.5 * (cv[p0 - 1] + cv[p0]) : cv[p0];
-        const b = p0 < nc - 1 ? 0.5 * (cv[p0] + cv[p0 + 1]) : cv[p0];
-        const first = vs.length;
-        for (const u of b > a ? [a, b] : [a]) {
-          vs.push(u);
-          xs.push(cx[p0]);
-          ss.push(0);
-          seg.push(-1);
-          lattice.push(NaN);
-        }
-        pieces.push([first, vs.length - 1]);
-        p0 = p1 + 1;
-        continue;
-      }
-      // The piece runs from curve node p0 to p1, each end moved to the middle of the gap that
-      // refinement left at a jump (the jump lies somewhere inside it; x̂ there is the piece's cubic
-      // extrapolated across at most half a gap), so no measurement is left out. Its nodes: the two
-      // ends and the lattice points k·h strictly inside.
+      pieceFrom.push(p0);
+      pieceTo.push(p1);
       const a = p0 > 0 ? 0.5 * (cv[p0 - 1] + cv[p0]) : cv[p0];
       const b = p1 < nc - 1 ? 0.5 * (cv[p1] + cv[p1 + 1]) : cv[p1];
-      const first = vs.length;
-      push(a, p0, NaN);
-      let j = p0;
-      for (let k = Math.floor(a / h) + 1; k * h < b - eps; k++) {
-        const u = k * h;
-        if (u - a < eps) continue;
-        while (j < p1 - 1 && cv[j + 1] <= u) j++;
-        push(u, j, k);
-      }
-      push(b, p1 - 1, NaN);
-      pieces.push([first, vs.length - 1]);
+      cap += Math.floor((b - a) / h) + 3;
       p0 = p1 + 1;
     }
-    const n = vs.length;
-    this.n = n;
-    this.v = Float64Array.from(vs);
-    this.xh = Float64Array.from(xs);
-    this.slope = Float64Array.from(ss);
-    this.curveSeg = Int32Array.from(seg);
-    const warp = curve.warpM;
-    this.m = new Float64Array(n);
-    this.jac = new Float64Array(n);
-    this.curv = new Float64Array(n);
-    for (let k = 0; k < n; k++) {
-      const u = this.v[k];
-      this.m[k] = warp.fromU(u);
-      this.jac[k] = warp.dxdu(u);
-      this.curv[k] = warp.curvature(u);
+    // One backing store for every per-node array (views into it): a grid is rebuilt on every
+    // evaluation, and a dozen separate typed arrays cost more in allocation and collection than
+    // the arithmetic that fills them (measured).
+    const store = new Float64Array(12 * cap);
+    const view = (i: number) => store.subarray(i * cap, (i + 1) * cap);
+    const v = view(0);
+    const xh = view(1);
+    const slope = view(2);
+    const lattice = view(3);
+    const ints = new Int32Array(2 * cap + 1);
+    const curveSeg = ints.subarray(0, cap);
+    const pieceFirst = new Int32Array(pieceFrom.length);
+    const pieceLast = new Int32Array(pieceFrom.length);
+    let n = 0;
+    for (let q = 0; q < pieceFrom.length; q++) {
+      const p0 = pieceFrom[q];
+      const p1 = pieceTo[q];
+      const a = p0 > 0 ? 0.5 * (cv[p0 - 1] + cv[p0]) : cv[p0];
+      const b = p1 < nc - 1 ? 0.5 * (cv[p1] + cv[p1 + 1]) : cv[p1];
+      pieceFirst[q] = n;
+      if (p1 === p0) {
+        for (let e = 0; e < (b > a ? 2 : 1); e++) {
+          v[n] = e === 0 ? a : b;
+          xh[n] = cx[p0];
+          slope[n] = 0;
+          curveSeg[n] = -1;
+          lattice[n] = NaN;
+          n++;
+        }
+        pieceLast[q] = n - 1;
+        continue;
+      }
+      // The piece's two ends and the lattice points k·h strictly inside.
+      let j = p0;
+      for (let k = Math.floor(a / h); ; k++) {
+        const end = k * h >= b - eps;
+        const u = k < Math.floor(a / h) + 1 ? a : end ? b : k * h;
+        if (u !== a && u !== b && u - a < eps) continue;
+        while (j < p1 - 1 && cv[j + 1] <= u) j++;
+        v[n] = u;
+        xh[n] = hermite(cv, cx, cs, j, u);
+        slope[n] = hermiteDerivative(cv, cx, cs, j, u);
+        curveSeg[n] = j;
+        lattice[n] = u === a || u === b ? NaN : k;
+        n++;
+        if (end) break;
+      }
+      pieceLast[q] = n - 1;
     }
+    this.n = n;
+    this.v = v.subarray(0, n);
+    this.xh = xh.subarray(0, n);
+    this.slope = slope.subarray(0, n);
+    this.curveSeg = curveSeg.subarray(0, n);
+    const warp = curve.warpM;
+    const m = view(4).subarray(0, n);
+    const jac = view(5).subarray(0, n);
+    const curv = view(6).subarray(0, n);
+    for (let k = 0; k < n; k++) {
+      const u = v[k];
+      m[k] = warp.fromU(u);
+      jac[k] = warp.dxdu(u);
+      curv[k] = warp.curvature(u);
+    }
+    this.m = m;
+    this.jac = jac;
+    this.curv = curv;
 
     // x̂ range over each node-to-node segment: the chord, the curve nodes inside, and how far each
-    // cubic piece it overlaps can bend off its chord.
-    const lo = new Float64Array(n);
-    const hi = new Float64Array(n);
+    // cubic piece it overlaps can bend off its chord (curveSeg −1: a lone node's constant piece).
+    const lo = view(7);
+    const hi = view(8);
     for (let k = 0; k + 1 < n; k++) {
-      let a = Math.min(this.xh[k], this.xh[k + 1]);
-      let b = Math.max(this.xh[k], this.xh[k + 1]);
+      let a = Math.min(xh[k], xh[k + 1]);
+      let b = Math.max(xh[k], xh[k + 1]);
       let bulge = 0;
-      // (curveSeg −1: a lone node's constant piece.)
-      for (let j = this.curveSeg[k]; j >= 0 && j <= this.curveSeg[k + 1] && j < nc - 1; j++) {
-        if (j > this.curveSeg[k] && cv[j] < this.v[k + 1]) {
-          a = Math.min(a, cx[j]);
-          b = Math.max(b, cx[j]);
+      const j0 = curveSeg[k];
+      for (let j = j0; j >= 0 && j <= curveSeg[k + 1] && j < nc - 1; j++) {
+        if (j > j0 && cv[j] < v[k + 1]) {
+          if (cx[j] < a) a = cx[j];
+          if (cx[j] > b) b = cx[j];
         }
-        bulge = Math.max(bulge, 0.25 * (cv[j + 1] - cv[j]) * Math.abs(cs[j] - cs[j + 1]));
+        const bend = 0.25 * (cv[j + 1] - cv[j]) * Math.abs(cs[j] - cs[j + 1]);
+        if (bend > bulge) bulge = bend;
       }
       lo[k] = a - bulge;
       hi[k] = b + bulge;
@@ -203,34 +243,36 @@ export class MeasurementGrid {
     // The rule(s): trapezoid over each piece on the rule's nodes, sub-stepped where x̂ moves
     // more than SUBSTEP motor sds. While two steps are blended, the coarse rule uses the piece
     // ends and every other lattice point, the fine rule every node.
-    const weight = new Float64Array(n);
-    const emc = new Float64Array(n);
-    const subs: SubSegment[] = [];
-    const rules: [number, (k: number) => boolean][] = [];
-    if (fineShare < 1) rules.push([fineShare > 0 ? 1 - fineShare : 1, fineShare > 0 ? (k) => !(lattice[k] % 2) : () => true]);
-    if (fineShare > 0) rules.push([fineShare, () => true]);
-    for (const [share, member] of rules) {
-      for (const [first, last] of pieces) {
-        let i = first;
+    const weight = view(9).subarray(0, n);
+    const emc = view(10).subarray(0, n);
+    const subs: number[] = []; // left, right, q, share, lo, hi per sub-stepped segment
+    for (let rule = 0; rule < 2; rule++) {
+      const share = rule === 0 ? 1 - fineShare : fineShare;
+      if (!(share > 0)) continue;
+      const everyOther = rule === 0 && fineShare > 0;
+      for (let q = 0; q < pieceFirst.length; q++) {
+        const last = pieceLast[q];
+        let i = pieceFirst[q];
         while (i < last) {
           let i2 = i + 1;
-          while (i2 < last && !(Number.isNaN(lattice[i2]) || member(i2))) i2++;
-          const d = this.v[i2] - this.v[i];
+          if (everyOther) while (i2 < last && lattice[i2] % 2 !== 0) i2++;
+          const d = v[i2] - v[i];
           if (d > 0) {
-            let sLo = Infinity;
-            let sHi = -Infinity;
-            for (let k = i; k < i2; k++) {
-              sLo = Math.min(sLo, lo[k]);
-              sHi = Math.max(sHi, hi[k]);
+            let sLo = lo[i];
+            let sHi = hi[i];
+            for (let k = i + 1; k < i2; k++) {
+              if (lo[k] < sLo) sLo = lo[k];
+              if (hi[k] > sHi) sHi = hi[k];
             }
-            const q = (sHi - sLo) / (SUBSTEP * motorSd);
+            const qs = (sHi - sLo) / (SUBSTEP * motorSd);
             let end = d;
             let em = (d * d) / 12;
-            if (q > 1) {
-              const [n0, w] = blend(q);
+            if (qs > 1) {
+              const n0 = blendCount(qs);
+              const w = blendWeight(qs, n0);
               end = (1 - w) * (d / n0) + w * (d / (n0 + 1));
               em = ((1 - w) * (d / n0) ** 2 + w * (d / (n0 + 1)) ** 2) / 12;
-              subs.push({ left: i, right: i2, q, share, lo: sLo, hi: sHi });
+              subs.push(i, i2, qs, share, sLo, sHi);
             }
             weight[i] += 0.5 * share * end;
             weight[i2] += 0.5 * share * end;
@@ -243,21 +285,55 @@ export class MeasurementGrid {
     }
     const tiny = 1e-9 * h * h;
     for (let k = 0; k < n; k++) {
-      weight[k] *= this.jac[k];
+      weight[k] *= jac[k];
       // Equal neighbouring steps differ by rounding only: keep those nodes free of g′.
       if (Math.abs(emc[k]) <= tiny) emc[k] = 0;
     }
     this.weight = weight;
     this.emc = emc;
-    subs.sort((a, b) => a.left - b.left);
-    this.subLeft = Int32Array.from(subs, (s) => s.left);
-    this.subRight = Int32Array.from(subs, (s) => s.right);
-    this.subLo = Float64Array.from(subs, (s) => s.lo);
-    this.subHi = Float64Array.from(subs, (s) => s.hi);
-    this.subQ = Float64Array.from(subs, (s) => s.q);
-    this.subShare = Float64Array.from(subs, (s) => s.share);
-    this.subFrom = new Int32Array(subs.length).fill(-1);
-    this.subTo = new Int32Array(subs.length);
+    this.scratch = view(11);
+
+    // Sub-stepped segments sorted by left node (the two rules' lists interleave).
+    const ns = subs.length / 6;
+    const order = Array.from({ length: ns }, (_, t) => t);
+    if (fineShare > 0 && fineShare < 1) order.sort((a, b) => subs[6 * a] - subs[6 * b]);
+    this.subLeft = new Int32Array(ns);
+    this.subRight = new Int32Array(ns);
+    this.subQ = new Float64Array(ns);
+    this.subShare = new Float64Array(ns);
+    this.subLo = new Float64Array(ns);
+    this.subHi = new Float64Array(ns);
+    for (let t = 0; t < ns; t++) {
+      const o = 6 * order[t];
+      this.subLeft[t] = subs[o];
+      this.subRight[t] = subs[o + 1];
+      this.subQ[t] = subs[o + 2];
+      this.subShare[t] = subs[o + 3];
+      this.subLo[t] = subs[o + 4];
+      this.subHi[t] = subs[o + 5];
+    }
+    this.subFrom = new Int32Array(ns).fill(-1);
+    this.subTo = new Int32Array(ns);
+
+    // What a trial needs to choose its path: monotone runs of x̂ and the irregular nodes.
+    const starts = [0];
+    const ups = [n > 1 && xh[1] < xh[0] ? 0 : 1];
+    for (let k = 1; k + 1 < n; k++) {
+      const up = xh[k + 1] >= xh[k] ? 1 : 0;
+      if (up !== ups[ups.length - 1]) {
+        starts.push(k);
+        ups.push(up);
+      }
+    }
+    starts.push(Math.max(0, n - 1));
+    this.runStart = Int32Array.from(starts);
+    this.runUp = Uint8Array.from(ups);
+    const odd = new Uint8Array(n);
+    if (fineShare > 0) odd.fill(1);
+    for (let k = 0; k < n; k++) if (lattice[k] !== lattice[k] || emc[k] !== 0) odd[k] = 1;
+    for (let t = 0; t < ns; t++) for (let k = this.subLeft[t]; k <= this.subRight[t]; k++) odd[k] = 1;
+    this.irregular = ints.subarray(cap, cap + n + 1);
+    for (let k = 0; k < n; k++) this.irregular[k + 1] = this.irregular[k] + odd[k];
   }
 
   /** First node of the segment holding v (clamped), by bisection. */
@@ -270,6 +346,30 @@ export class MeasurementGrid {
     while (hi - lo > 1) {
       const mid = (lo + hi) >> 1;
       if (a[mid] <= v) lo = mid;
+      else hi = mid;
+    }
+    return lo;
+  }
+
+  /** The run holding node k (the later one at a turning node). */
+  runOf(k: number): number {
+    const a = this.runStart;
+    let lo = 0;
+    let hi = a.length - 2;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (a[mid] <= k) lo = mid;
+      else hi = mid - 1;
+    }
+    return lo;
+  }
+
+  /** First node in [lo, hi) past which x̂ has passed t along the run (x̂ ≥ t rising, x̂ ≤ t falling); hi if none. */
+  crossing(t: number, lo: number, hi: number, up: boolean): number {
+    const a = this.xh;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (up ? a[mid] < t : a[mid] > t) lo = mid + 1;
       else hi = mid;
     }
     return lo;
@@ -294,7 +394,8 @@ export class MeasurementGrid {
     const { curve } = this;
     const { v: cv, xh: cx, slope: cs } = curve;
     const warp = curve.warpM;
-    const [n0, w] = blend(this.subQ[s]);
+    const n0 = blendCount(this.subQ[s]);
+    const w = blendWeight(this.subQ[s], n0);
     const share = this.subShare[s];
     const left = this.subLeft[s];
     const right = this.subRight[s];
@@ -330,11 +431,14 @@ export class MeasurementGrid {
   }
 }
 
-/** ⌊q⌋ sub-steps blended with ⌊q⌋+1 by a smoothstep weight of the fraction, so the rule moves continuously with q. */
-function blend(q: number): [number, number] {
-  const n0 = Math.min(MAX_SUB, Math.floor(q));
+/** ⌊q⌋ sub-steps, blended with ⌊q⌋+1 by a smoothstep weight of the fraction, so the rule moves continuously with q. */
+function blendCount(q: number): number {
+  return Math.min(MAX_SUB, Math.floor(q));
+}
+
+function blendWeight(q: number, n0: number): number {
   const frac = n0 === MAX_SUB ? 0 : q - n0;
-  return [n0, frac * frac * (3 - 2 * frac)];
+  return frac * frac * (3 - 2 * frac);
 }
 
 /**
@@ -361,8 +465,8 @@ function chooseStep(curve: EstimateCurve, noise: SensoryNoise, xLo: number, xHi:
     vLo = Math.min(vLo, u);
     vHi = Math.max(vHi, u);
   }
-  vLo -= SENSORY_WINDOW;
-  vHi += SENSORY_WINDOW;
+  vLo -= SLOPE_WINDOW;
+  vHi += SLOPE_WINDOW;
   // The largest |slope| over the nodes inside the window and the interpolated slope at its two
   // ends: continuous as the window moves (a node enters with the value the end already had).
   const { v, xh, slope, breakAfter } = curve;
