@@ -13,6 +13,7 @@ import { monotonicityCheck } from '../src/analysis/monotonicity.js';
 import type { JobLine } from '../src/analysis/types.js';
 import { streamFromKey } from '../src/numerics/rng.js';
 import { undecided } from '../src/engine/adaptiveSweep.js';
+import { fakeLine } from './helpers/fakeLines.js';
 
 describe('confidence sequence', () => {
   it('its ends are where the beta-mixture martingale reaches 1/α', () => {
@@ -94,20 +95,7 @@ describe('isotonic regression', () => {
   });
 });
 
-function line(generating: string, observer: number, trials: number, winner: string): JobLine {
-  return {
-    key: `gen=${generating}/obs=${String(observer).padStart(4, '0')}/trials=${trials}`,
-    generating,
-    observer,
-    trials,
-    truth: {},
-    truthFree: {},
-    status: 'ok',
-    attempts: 1,
-    fits: ['a', 'b'].map((m) => ({ model: m, status: 'ok', reason: '', logLikelihood: 0, k: 1, aic: 0, aicc: 0, bic: 0, parameters: [], flatDirection: false, evaluations: 1 })),
-    comparison: { criterion: 'bic', status: 'won', winner, contenders: [winner], delta: {}, weight: {} },
-  };
-}
+const line = (generating: string, observer: number, trials: number, winner: string): JobLine => fakeLine(generating, observer, trials, winner);
 
 const rule: SizingRule = { name: 'test', reference: 'test', alpha: 0.05, pointAlpha: 0.05 / 6, mixture: 'uniform Beta(1, 1)', initialObservers: 40, batch: 0, maxObservers: 40, rounds: 1, decision: 'none' };
 const options = (counts: number[]): SizingOptions => ({ candidates: ['a', 'b'], generating: ['a', 'b'], trialCounts: counts, target: 0.8, rule, criterion: 'bic' });

@@ -97,6 +97,11 @@ export interface Sizing extends SizingTargetResult {
   /** The analytic preview's prediction at the same counts, to set against the simulation. */
   predicted?: { method: string; points: { generating: string; trials: number; p: number }[]; trialsNeeded: Record<string, number | null> };
   caution: string;
+  /**
+   * Present only in the folder of a sweep run in rounds on a cluster whose later rounds are still to run:
+   * says that the numbers describe the rounds so far. Absent from a finished sweep, merged or single-machine.
+   */
+  provisional?: string;
 }
 
 export interface SizingOptions extends OutcomeOptions {

@@ -24,6 +24,7 @@ import { finishFit, readRecoveryStudy } from './fit.js';
 import { readFitSettings, writeFitSettings } from './fitSettings.js';
 import { openRunFolder, printStudy, writeReportOrWarn, writeStudyOutputs } from './run.js';
 import { UserError } from './userError.js';
+import { mergeSizeRound } from './sizeRound.js';
 
 export interface MergeFlags {
   out: string;
@@ -44,15 +45,22 @@ export interface NextRound {
 }
 
 interface Merger {
+  /**
+   * A command whose shards are not one study's slice (size: a round of a sweep over several designs)
+   * joins and finishes them itself, after the common checks of checkSameStudy.
+   */
+  mergeAll?(shards: readonly ShardFolder[], o: { out: string; json: boolean; toolVersion: string }): Promise<{ jobs: number; failed: number; round: number; next: NextRound }>;
   /** The study the shards ran (default: rebuilt from scenario.json, whose hash must be the recorded one). */
   studyOf?(s: ShardFolder): ResolvedStudy;
   /** The full job plan of the study, as the command builds it. */
-  planKeys(study: ResolvedStudy, first: ShardFolder): string[];
+  planKeys?(study: ResolvedStudy, first: ShardFolder): string[];
   /** Write the command's outputs into the merged folder and print them. */
-  finish(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean; first: ShardFolder }): Promise<NextRound>;
+  finish?(o: { folder: string; study: ResolvedStudy; lines: JobLine[]; toolVersion: string; json: boolean; first: ShardFolder }): Promise<NextRound>;
 }
 
 const mergers: Record<string, Merger> = {
+  // A round of a trial-count sweep: joined into the sweep's run folder, which then says whether another round is needed.
+  size: { mergeAll: mergeSizeRound },
   run: {
     planKeys: (study) => planJobs(study).map((j) => j.key),
     async finish({ folder, study, lines, toolVersion, json }) {
@@ -69,7 +77,7 @@ const mergers: Record<string, Merger> = {
   plan: {
     planKeys: (study) => planJobs(study).map((j) => j.key),
     async finish(o) {
-      const next = await mergers.run.finish(o);
+      const next = await mergers.run.finish!(o);
       if (!o.json) console.log(`This is the pool of a group plan: resample its studies with \`lossprobe plan SCENARIO --out ${o.folder} --resume\`.`);
       return { ...next, reason: 'the pool of a plan runs in one round; its studies are resampled by plan --resume' };
     },
@@ -131,8 +139,21 @@ export async function mergeCommand(args: string[], flags: MergeFlags, toolVersio
   const first = shards[0].record;
   const merger = mergers[first.command];
   if (!merger) throw new UserError(`merge cannot finish shards of '${first.command}' (this lossprobe knows: ${Object.keys(mergers).join(', ')}); update lossprobe`);
+  const { count } = first.shard;
+  const merged = merger.mergeAll ? await merger.mergeAll(shards, { out: flags.out, json: flags.json ?? false, toolVersion }) : { ...(await mergeOneRound(merger, shards, flags, toolVersion)), round: undefined };
+  const { jobs, failed, next, round } = merged;
+  writeFileAtomically(
+    join(flags.out, 'merge.json'),
+    JSON.stringify({ version: 1, command: first.command, scenarioHash: first.scenarioHash, seed: first.seed, ...(round === undefined ? {} : { round }), shards: count, folders: shards.map((s) => s.folder), jobs, failedJobs: failed, nextRound: next }, null, 2) + '\n',
+  );
+  if (!flags.json && !merger.mergeAll) console.log(`Merged ${shards.length} shards (${jobs} jobs${failed ? `, ${failed} failed` : ''}) into ${flags.out}/.${next.needed ? ` Another round is needed: ${next.reason}${next.plan ? `; its plan is ${next.plan}` : ''}.` : ''}`);
+}
+
+/** The shards of one study's whole plan (run, plan, fit): check, join and finish as the command would. */
+async function mergeOneRound(merger: Merger, shards: readonly ShardFolder[], flags: MergeFlags, toolVersion: string): Promise<{ jobs: number; failed: number; next: NextRound }> {
+  const first = shards[0].record;
   const study = (merger.studyOf ?? studyOfShard)(shards[0]);
-  const planKeys = merger.planKeys(study, shards[0]);
+  const planKeys = merger.planKeys!(study, shards[0]);
   if (planDigest(planKeys) !== first.plan.digest)
     throw new UserError(`the shards' plan (${first.plan.jobs} jobs) differs from the plan this lossprobe builds for their scenario (${planKeys.length} jobs); merge with the version that ran the shards`);
   const { count } = first.shard;
@@ -141,11 +162,6 @@ export async function mergeCommand(args: string[], flags: MergeFlags, toolVersio
   // Everything is checked; from here on the merged folder is written, each file atomically.
   openRunFolder(flags.out, { hash: first.scenarioHash, scenario: study.scenario }, true);
   writeFileAtomically(join(flags.out, 'jobs.jsonl'), lines.map((l) => JSON.stringify(l) + '\n').join(''));
-  const next = await merger.finish({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false, first: shards[0] });
-  const failed = lines.filter((l) => l.status !== 'ok').length;
-  writeFileAtomically(
-    join(flags.out, 'merge.json'),
-    JSON.stringify({ version: 1, command: first.command, scenarioHash: first.scenarioHash, seed: first.seed, shards: count, folders: shards.map((s) => s.folder), jobs: lines.length, failedJobs: failed, nextRound: next }, null, 2) + '\n',
-  );
-  if (!flags.json) console.log(`Merged ${shards.length} shards (${lines.length} jobs${failed ? `, ${failed} failed` : ''}) into ${flags.out}/.${next.needed ? ` Another round is needed: ${next.reason}${next.plan ? `; its plan is ${next.plan}` : ''}.` : ''}`);
+  const next = await merger.finish!({ folder: flags.out, study, lines, toolVersion, json: flags.json ?? false, first: shards[0] });
+  return { jobs: lines.length, failed: lines.filter((l) => l.status !== 'ok').length, next };
 }

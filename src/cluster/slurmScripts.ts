@@ -34,6 +34,15 @@ export interface SlurmPlan {
   studyFlags: string[];
   /** Absolute run folder: shards go into it, the merged run is written to it. */
   out: string;
+  /** Absolute folder the shard folders go into, when not `out` (a round of a sweep: <out>/round-R); logs go to its logs/. */
+  shardBase?: string;
+  /** A round of an adaptive sweep (size): named in the comments and job names. */
+  round?: number;
+  /**
+   * With a round: the `lossprobe cluster` flags (shards, cores, time, partition, account) with which the
+   * merge job writes and submits the next round's scripts itself, when merge planned one (cluster --follow).
+   */
+  follow?: string[];
 }
 
 export interface SlurmScripts {
@@ -74,18 +83,20 @@ function lossprobeLocation(p: SlurmPlan): string[] {
 
 export function slurmScripts(p: SlurmPlan): SlurmScripts {
   const out = shellQuote(p.out);
+  const base = p.shardBase ?? p.out;
   const glob = shardGlob(p.shards);
+  const name = p.round === undefined ? jobName(p.name) : `${jobName(p.name)}-r${p.round}`;
   const header = [
     '#!/bin/bash',
     `# Written by lossprobe ${p.toolVersion} (\`lossprobe cluster\`) for the study '${p.name}'`,
-    `# (scenario hash ${p.scenarioHash.slice(0, 16)}…, seed ${p.seed}): ${p.jobs} jobs in ${p.shards} shards.`,
+    `# (${p.round === undefined ? 'scenario' : `round ${p.round} of the sweep; sweep`} hash ${p.scenarioHash.slice(0, 16)}…, seed ${p.seed}): ${p.jobs} jobs in ${p.shards} shards.`,
   ];
   const array = [
     ...header,
-    `# Array task K runs shard K of ${p.shards} into ${p.out}/${glob.replace('*', 'K')} (K zero-padded).`,
+    `# Array task K runs shard K of ${p.shards} into ${base}/${glob.replace('*', 'K')} (K zero-padded).`,
     '# A task that failed or hit its time limit continues where it stopped when resubmitted:',
     '#   sbatch --array=K array.sbatch',
-    ...directives(p, [`#SBATCH --job-name=${jobName(p.name)}`, `#SBATCH --array=1-${p.shards}`, `#SBATCH --cpus-per-task=${p.cpus}`, `#SBATCH --output=${p.out}/logs/shard-%a.log`]),
+    ...directives(p, [`#SBATCH --job-name=${name}`, `#SBATCH --array=1-${p.shards}`, `#SBATCH --cpus-per-task=${p.cpus}`, `#SBATCH --output=${base}/logs/shard-%a.log`]),
     '',
     'set -euo pipefail',
     ...lossprobeLocation(p),
@@ -98,12 +109,13 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
   const merge = [
     ...header,
     `# Joins the shards into ${p.out}: the same summary.json and CSV files as a single-machine run.`,
+    ...(p.round === undefined ? [] : [`# Then says (in ${base}/logs/merge.log) whether another round is needed, and writes its plan.`]),
     '# It refuses, naming the shards to rerun, while any shard is missing or unfinished.',
-    ...directives(p, [`#SBATCH --job-name=${jobName(p.name)}-merge`, '#SBATCH --cpus-per-task=1', `#SBATCH --output=${p.out}/logs/merge.log`]),
+    ...directives(p, [`#SBATCH --job-name=${name}-merge`, '#SBATCH --cpus-per-task=1', `#SBATCH --output=${base}/logs/merge.log`]),
     '',
     'set -euo pipefail',
     ...lossprobeLocation(p),
-    `exec "$node" "$cli" merge ${out}/${glob} --out ${out}`,
+    ...(p.follow && p.round !== undefined ? followRound(p, base, glob) : [`exec "$node" "$cli" merge ${shellQuote(base)}/${glob} --out ${out}`]),
     '',
   ];
   const submit = [
@@ -114,10 +126,30 @@ export function slurmScripts(p: SlurmPlan): SlurmScripts {
     'here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"',
     'array_id="$(sbatch --parsable "$@" "$here/array.sbatch")"',
     'array_id="${array_id%%;*}"  # --parsable prints "id" or "id;cluster"',
-    `echo "Submitted the array job $array_id (${p.shards} tasks); logs in ${p.out}/logs/"`,
+    `echo "Submitted the array job $array_id (${p.shards} tasks); logs in ${base}/logs/"`,
     'merge_id="$(sbatch --parsable --dependency=afterany:"$array_id" "$@" "$here/merge.sbatch")"',
     'echo "Submitted the merge job ${merge_id%%;*}; it starts when every array task has ended"',
     '',
   ];
   return { 'array.sbatch': array.join('\n'), 'merge.sbatch': merge.join('\n'), 'submit.sh': submit.join('\n') };
+}
+
+/**
+ * The merge of a sweep's round that goes on by itself: merge, then, when the
+ * merge wrote the next round's plan and that round has no scripts yet (so a
+ * merge run again never submits a round twice), write its scripts with the
+ * same cluster flags and submit them from this job.
+ */
+function followRound(p: SlurmPlan, base: string, glob: string): string[] {
+  const out = shellQuote(p.out);
+  const next = `${p.out}/round-${p.round! + 1}`;
+  return [
+    `"$node" "$cli" merge ${shellQuote(base)}/${glob} --out ${out}`,
+    '# --follow: when the merge planned another round, write its scripts and submit them from here.',
+    `next=${shellQuote(next)}`,
+    'if [ -f "$next/plan.json" ] && [ ! -e "$next/slurm" ]; then',
+    `  "$node" "$cli" cluster ${shellQuote(p.scenario)} --round-plan "$next/plan.json" ${p.follow!.map(shellQuote).join(' ')} --out ${out} --follow`,
+    '  exec bash "$next/slurm/submit.sh"',
+    'fi',
+  ];
 }

@@ -47,6 +47,9 @@ export function expandShardFolders(args: readonly string[]): string[] {
       .filter((d) => /^shard-\d+-of-\d+$/.test(d) && existsSync(join(a, d, SHARD_FILE)))
       .sort()
       .map((d) => join(a, d));
+    const rounds = readdirSync(a).filter((d) => /^round-\d+$/.test(d)).sort((x, y) => Number(x.slice(6)) - Number(y.slice(6)));
+    if (!inner.length && rounds.length && !existsSync(join(a, SHARD_FILE)))
+      throw new UserError(`${a} is the run folder of a trial-count sweep run in rounds (${rounds.join(', ')}); merge one round at a time, the round just run: lossprobe merge ${join(a, rounds[rounds.length - 1])} --out ${a}`);
     out.push(...(inner.length ? inner : [a]));
   }
   return out;
@@ -81,6 +84,7 @@ export function checkSameStudy(shards: readonly ShardFolder[]): void {
     ['shards of different commands', (s) => `'${s.record.command}'`, 'merge joins the shards of one command at a time'],
     ['different seeds', (s) => `seed ${s.record.seed}`, 'every shard of a study must run with the same scenario file and the same --seed'],
     ['different scenarios or settings', (s) => `scenario '${s.record.name}', hash ${s.record.scenarioHash.slice(0, 12)}…`, 'every shard of a study must run with the same scenario file and the same flags (--observers, --trials, --seed)'],
+    ['shards of different rounds', (s) => `round ${s.record.round ?? 1}`, 'merge joins one round of a sweep at a time: give the shard folders of one round (e.g. results/<name>-size/round-2), after merging the rounds before it'],
     ['different splits', (s) => `${s.record.shard.count} shards`, 'every shard must use the same N in --shard K/N'],
     ['different plans', (s) => `plan ${s.record.plan.digest.slice(0, 12)}… of ${s.record.plan.jobs} jobs`, 'the shards belong to different rounds or lossprobe versions'],
   ];

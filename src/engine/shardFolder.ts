@@ -9,11 +9,11 @@
  * plan and shard count) and which slice each folder holds.
  */
 import { createHash } from 'node:crypto';
-import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { z } from 'zod';
 import { compareJobKeys } from '../analysis/jobKeys.js';
-import { UserError, formatSchemaIssues } from '../cli/userError.js';
+import { UserError } from '../cli/userError.js';
+import { readJsonRecord } from './jsonRecord.js';
 import { writeFileAtomically } from './atomicFile.js';
 import { shardFolderName, shardGlob, shardJobs, type Shard } from './shard.js';
 
@@ -39,6 +39,8 @@ export const shardRecordSchema = z
     plan: z.object({ jobs: z.number().int().min(0), digest: z.string().regex(/^[0-9a-f]{64}$/, 'a sha256 in hex') }).strict(),
     /** Jobs in this shard's slice. */
     jobs: z.number().int().min(0),
+    /** The round of an adaptive sweep (size) whose plan this shard splits; absent for one-round commands. */
+    round: z.number().int().min(1).optional(),
   })
   .strict();
 
@@ -84,17 +86,7 @@ export function openShard<T extends { key: string }>(o: {
 
 /** shard.json of a folder: the record, or null when the folder has none. */
 export function readShardRecord(folder: string): ShardRecord | null {
-  const path = join(folder, SHARD_FILE);
-  if (!existsSync(path)) return null;
-  let raw: unknown;
-  try {
-    raw = JSON.parse(readFileSync(path, 'utf8'));
-  } catch (e) {
-    throw new UserError(`${path}: not valid JSON (${(e as Error).message}); it is written by \`lossprobe run --shard K/N\` and should not be edited`);
-  }
-  const parsed = shardRecordSchema.safeParse(raw);
-  if (!parsed.success) throw new UserError(formatSchemaIssues(path, parsed.error, raw));
-  return parsed.data;
+  return readJsonRecord(join(folder, SHARD_FILE), shardRecordSchema, '`lossprobe run --shard K/N`');
 }
 
 /** Write shard.json, or check that the one already there (a resumed shard) describes the same slice. */

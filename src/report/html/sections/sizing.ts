@@ -40,7 +40,8 @@ export const sizingSection: Section = {
           .join(', ')}; check the fits.</p>`
       : `<p>Accuracy does not fall between successive trial counts beyond chance (${ctx.text([...base, 'monotonicity', 'test'])}).</p>`;
     const svg = await sizingFigure(s);
-    return `<p class="how">Each trial count was run on the same synthetic observers (smaller counts are the first trials of the larger ones). Observers were added where the answer was uncertain: ${ctx.text([...base, 'rule', 'decision'])} (${ctx.text([...base, 'rule', 'reference'])}). The intervals are anytime-valid, so they stay valid although the sweep looked at them after every round. The trials needed are read off a monotone (isotonic) fit of accuracy against log trial count${s.predicted ? '; the last column is the analytic preview\'s normal approximation, for comparison' : ''}.</p>
+    const provisional = s.provisional ? `<p class="warn">${ctx.text([...base, 'provisional'])}</p>\n` : '';
+    return `${provisional}<p class="how">Each trial count was run on the same synthetic observers (smaller counts are the first trials of the larger ones). Observers were added where the answer was uncertain: ${ctx.text([...base, 'rule', 'decision'])} (${ctx.text([...base, 'rule', 'reference'])}). The intervals are anytime-valid, so they stay valid although the sweep looked at them after every round. The trials needed are read off a monotone (isotonic) fit of accuracy against log trial count${s.predicted ? '; the last column is the analytic preview\'s normal approximation, for comparison' : ''}.</p>
 <div class="table-wrap"><table class="data"><caption>Trials per observer for ${ctx.num([...base, 'target'], 'percent')} correct choices</caption><thead><tr><th>generating model</th><th>trials needed</th><th>interval</th>${s.predicted ? '<th>predicted (analytic)</th>' : ''}</tr></thead><tbody>
 ${needed}
 </tbody></table></div>
