@@ -45,6 +45,7 @@
 import { hermite, hermiteDerivative, type EstimateCurve } from './estimateCurve.js';
 import type { SensoryNoise } from './noise/types.js';
 import { segmentIndex } from '../numerics/search.js';
+import { evaluateClosedForm, type ClosedFormEstimate } from './closedForm.js';
 
 /** At the steepest x̂ within reach of the design, one step moves x̂ by at most this many motor sds. */
 const STEP_MOTION = 1;
@@ -140,6 +141,8 @@ export class MeasurementGrid {
     xLo: number,
     xHi: number,
     motorSd: number,
+    /** x̂ in closed form (log-normal prior with log-space noise): used at every node instead of the curve's interpolant. */
+    private readonly exact: ClosedFormEstimate | null = null,
   ) {
     const { coarse, fineShare } = chooseStep(curve, noise, xLo, xHi, motorSd);
     const h = fineShare > 0 ? coarse / 2 : coarse;
@@ -205,8 +208,15 @@ export class MeasurementGrid {
         if (u !== a && u !== b && u - a < eps) continue;
         while (j < p1 - 1 && cv[j + 1] <= u) j++;
         v[n] = u;
-        xh[n] = hermite(cv, cx, cs, j, u);
-        slope[n] = hermiteDerivative(cv, cx, cs, j, u);
+        if (exact) {
+          const mu = curve.warpM.fromU(u);
+          xh[n] = evaluateClosedForm(exact, mu);
+          // d x̂/dv = d x̂/dm · dm/dv (x̂ = a + b·m or exp(a + b·m))
+          slope[n] = (exact.kind === 'linear' ? exact.slope : exact.slope * xh[n]) * curve.warpM.dxdu(u);
+        } else {
+          xh[n] = hermite(cv, cx, cs, j, u);
+          slope[n] = hermiteDerivative(cv, cx, cs, j, u);
+        }
         curveSeg[n] = j;
         lattice[n] = u === a || u === b ? NaN : k;
         n++;
@@ -437,7 +447,7 @@ export class MeasurementGrid {
         while (j < last && cv[j + 1] <= u) j++;
         const i = this.subCount++;
         this.subM[i] = warp.fromU(u);
-        this.subX[i] = hermite(cv, cx, cs, j, u);
+        this.subX[i] = this.exact ? evaluateClosedForm(this.exact, this.subM[i]) : hermite(cv, cx, cs, j, u);
         this.subW[i] = share * weight * d * warp.dxdu(u);
       }
     }
