@@ -171,7 +171,7 @@ export class MeasurementGrid {
     // One backing store for every per-node array (views into it): a grid is rebuilt on every
     // evaluation, and a dozen separate typed arrays cost more in allocation and collection than
     // the arithmetic that fills them (measured).
-    const store = new Float64Array(12 * cap);
+    const store = new Float64Array(10 * cap);
     const view = (i: number) => store.subarray(i * cap, (i + 1) * cap);
     const v = view(0);
     const xh = view(1);
@@ -243,32 +243,11 @@ export class MeasurementGrid {
     this.jac = jac;
     this.curv = curv;
 
-    // x̂ range over each node-to-node segment: the chord, the curve nodes inside, and how far each
-    // cubic piece it overlaps can bend off its chord (curveSeg −1: a lone node's constant piece).
-    const lo = view(7);
-    const hi = view(8);
-    for (let k = 0; k + 1 < n; k++) {
-      let a = Math.min(xh[k], xh[k + 1]);
-      let b = Math.max(xh[k], xh[k + 1]);
-      let bulge = 0;
-      const j0 = curveSeg[k];
-      for (let j = j0; j >= 0 && j <= curveSeg[k + 1] && j < nc - 1; j++) {
-        if (j > j0 && cv[j] < v[k + 1]) {
-          if (cx[j] < a) a = cx[j];
-          if (cx[j] > b) b = cx[j];
-        }
-        const bend = 0.25 * (cv[j + 1] - cv[j]) * Math.abs(cs[j] - cs[j + 1]);
-        if (bend > bulge) bulge = bend;
-      }
-      lo[k] = a - bulge;
-      hi[k] = b + bulge;
-    }
-
     // The rule(s): trapezoid over each piece on the rule's nodes, sub-stepped where x̂ moves
     // more than SUBSTEP motor sds. While two steps are blended, the coarse rule uses the piece
     // ends and every other lattice point, the fine rule every node.
-    const weight = view(9).subarray(0, n);
-    const emc = view(10).subarray(0, n);
+    const weight = view(7).subarray(0, n);
+    const emc = view(8).subarray(0, n);
     const subs: number[] = []; // left, right, q, share, lo, hi per sub-stepped segment
     for (let rule = 0; rule < 2; rule++) {
       const share = rule === 0 ? 1 - fineShare : fineShare;
@@ -282,12 +261,27 @@ export class MeasurementGrid {
           if (everyOther) while (i2 < last && lattice[i2] % 2 !== 0) i2++;
           const d = v[i2] - v[i];
           if (d > 0) {
-            let sLo = lo[i];
-            let sHi = hi[i];
-            for (let k = i + 1; k < i2; k++) {
-              if (lo[k] < sLo) sLo = lo[k];
-              if (hi[k] > sHi) sHi = hi[k];
+            // x̂ range over the segment: the values at its nodes, the curve nodes inside, and how
+            // far each cubic piece it overlaps can bend off its chord (curveSeg −1: a lone node's
+            // constant piece).
+            let sLo = Infinity;
+            let sHi = -Infinity;
+            for (let k = i; k <= i2; k++) {
+              if (xh[k] < sLo) sLo = xh[k];
+              if (xh[k] > sHi) sHi = xh[k];
             }
+            let bulge = 0;
+            const j0 = curveSeg[i];
+            for (let j = j0; j >= 0 && j <= curveSeg[i2] && j < nc - 1; j++) {
+              if (j > j0 && cv[j] < v[i2]) {
+                if (cx[j] < sLo) sLo = cx[j];
+                if (cx[j] > sHi) sHi = cx[j];
+              }
+              const bend = 0.25 * (cv[j + 1] - cv[j]) * Math.abs(cs[j] - cs[j + 1]);
+              if (bend > bulge) bulge = bend;
+            }
+            sLo -= bulge;
+            sHi += bulge;
             const qs = (sHi - sLo) / (SUBSTEP * motorSd);
             let end = d;
             let em = (d * d) / 12;
@@ -315,11 +309,12 @@ export class MeasurementGrid {
     }
     this.weight = weight;
     this.emc = emc;
-    this.scratch = view(11);
+    this.scratch = view(9);
 
     // Sub-stepped segments sorted by left node (the two rules' lists interleave).
     const ns = subs.length / 6;
-    const order = Array.from({ length: ns }, (_, t) => t);
+    const order = new Int32Array(ns);
+    for (let t = 0; t < ns; t++) order[t] = t;
     if (fineShare > 0 && fineShare < 1) order.sort((a, b) => subs[6 * a] - subs[6 * b]);
     this.subLeft = new Int32Array(ns);
     this.subRight = new Int32Array(ns);
