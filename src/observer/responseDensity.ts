@@ -72,6 +72,22 @@ export class ConditionResponse {
     }
   }
 
+  /** The stimulus's measurement centre and sd, and the nodes within SENSORY_WINDOW sds of it (fields, so a trial allocates nothing). */
+  private winC = 0;
+  private winSd = 1;
+  private winK0 = 0;
+  private winK1 = 0;
+  private sensoryWindow(x: number): void {
+    const g = this.grid!;
+    const warp = this.curve!.warpM;
+    const c = this.noise.center(x);
+    const sd = this.noise.sdAt(x);
+    this.winC = c;
+    this.winSd = sd;
+    this.winK0 = g.nodeBelow(warp.toU(c - SENSORY_WINDOW * sd));
+    this.winK1 = Math.min(g.n - 1, g.nodeBelow(warp.toU(c + SENSORY_WINDOW * sd)) + 1);
+  }
+
   /**
    * ∫ N(r; x̂(v), σ_m²) p(v | x) dv on the grid, with the relative cut of the
    * header. Which nodes can matter is found first: within each monotone run
@@ -84,13 +100,10 @@ export class ConditionResponse {
     const g = this.grid!;
     const { m: M, xh: X } = g;
     const sm = this.obs.motorSd;
-    const c = this.noise.center(x);
-    const sd = this.noise.sdAt(x);
-    const warp = this.curve!.warpM;
-    const k0 = g.nodeBelow(warp.toU(c - SENSORY_WINDOW * sd));
-    const k1 = Math.min(g.n - 1, g.nodeBelow(warp.toU(c + SENSORY_WINDOW * sd)) + 1);
+    this.sensoryWindow(x);
+    const { winC: c, winK0: k0, winK1: k1 } = this;
     const invSm = 1 / sm;
-    const invSd = 1 / sd;
+    const invSd = 1 / this.winSd;
     const ranges = this.ranges;
     let nr = 0;
     const run0 = g.runOf(k0);
@@ -273,11 +286,8 @@ export class ConditionResponse {
     const g = this.grid!;
     const { m: M, xh: X, weight: W, emc } = g;
     const sm = this.obs.motorSd;
-    const c = this.noise.center(x);
-    const sd = this.noise.sdAt(x);
-    const warp = this.curve!.warpM;
-    const k0 = g.nodeBelow(warp.toU(c - SENSORY_WINDOW * sd));
-    const k1 = Math.min(g.n - 1, g.nodeBelow(warp.toU(c + SENSORY_WINDOW * sd)) + 1);
+    this.sensoryWindow(x);
+    const { winC: c, winSd: sd, winK0: k0, winK1: k1 } = this;
     const invSm = 1 / sm;
     const invSd = 1 / sd;
     const sign = kernel === 1 ? -1 : 1;
