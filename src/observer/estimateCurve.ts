@@ -22,6 +22,8 @@ import { segmentIndex } from '../numerics/search.js';
  * against 69 from a 1-sd base and 95 with three-point slopes).
  */
 export const CURVE_STEP = 2;
+/** Step in v for curves given in closed form (log-linear), which are not refined. */
+const CLOSED_FORM_STEP = 0.25;
 
 /** How far beyond the prior's support a motor-aware observer's convolved posterior reaches (9 motor sds). */
 export function motorReach(obs: Observer): number {
@@ -49,10 +51,14 @@ export class EstimateCurve {
     const { grid, warpM } = buildPosteriorGrid(obs.prior, noise, range, motorReach(obs));
     this.post = grid;
     this.warpM = warpM;
-    const h = CURVE_STEP;
+    // A closed-form curve costs next to nothing per node and is never refined,
+    // while the measurement grid sizes its sub-steps from the curve's pieces:
+    // short pieces there (measured on a log-normal prior with log-space noise,
+    // motor sd 0.2: 1437 µs per 300-trial evaluation at step 2, 362 µs at ¼).
+    const closed = closedFormEstimate(obs, noise);
+    const h = closed ? CLOSED_FORM_STEP : CURVE_STEP;
     const kLo = Math.floor(warpM.toU(range.lo) / h);
     const kHi = Math.ceil(warpM.toU(range.hi) / h);
-    const closed = closedFormEstimate(obs, noise);
     // Iterative estimators (power loss) converge in fewer steps from a close
     // start: linear extrapolation along the base sweep, the interpolant's own
     // prediction during refinement. The start never changes the answer beyond
