@@ -15,11 +15,17 @@
  */
 import { gaussHermite, gaussLegendre } from '../numerics/gaussRules.js';
 import { legendreIntegral, legendreTransform, legendreValue } from '../numerics/legendre.js';
+import { EXP_TABLE_MAX, expNeg } from '../numerics/expTable.js';
 import type { Distribution } from './distributions/types.js';
 import type { SensoryNoise, Warp } from './noise/types.js';
 
 export const NODES_PER_PANEL = 10;
-const LOG_CUTOFF = 46; // e^-46 ≈ 1e-20 relative to the peak is treated as zero
+/**
+ * Log densities more than this below the peak are treated as zero (e^-40 ≈
+ * 4e-18 of the peak, below double rounding of any sum over the nodes). It is
+ * also the table range of expNeg, which normalise uses for its one exp per node.
+ */
+const LOG_CUTOFF = EXP_TABLE_MAX;
 /** Half-width, in noise sds, of the node window evaluated around the likelihood peak. */
 const WINDOW_U = 14;
 const MAX_NODES = 20000;
@@ -276,7 +282,7 @@ export class GridPosterior {
     let z = 0;
     for (let j = first; j <= last; j++) {
       const v = this.logVal[j];
-      const e = v >= thr ? Math.exp(v - max) : 0;
+      const e = v >= thr ? expNeg(max - v) : 0;
       this.f[j] = e;
       const mj = e * this.quadWeight[j];
       this.mass[j] = mj;
