@@ -3,6 +3,8 @@
  *  - bisectMonotone: plain bisection for a monotone function (robust, used for quantiles).
  *  - brentRoot: Brent's method (Brent 1973, Algorithms for Minimization without Derivatives, ch. 4).
  *  - brentMinimize: Brent's golden-section/parabolic minimiser (same book, ch. 5).
+ *  - safeguardedNewton: Newton's method kept inside a bracket, with an early stop
+ *    from its quadratic convergence.
  */
 
 export function bisectMonotone(f: (x: number) => number, lo: number, hi: number, relTol = 1e-14, maxIter = 400): number {
@@ -135,4 +137,44 @@ export function brentMinimize(f: (x: number) => number, a: number, b: number, to
     }
   }
   return { x, value: fx };
+}
+
+/**
+ * Root of an increasing function inside [lo, hi] by Newton steps from
+ * `start`, bisecting whenever a step leaves the bracket (which shrinks with
+ * every evaluation) or the slope is not positive. `f` returns the value and
+ * its slope. Newton's error after a step is about |f″/2f′|·step² (quadratic
+ * convergence; e.g. Dennis & Schnabel, Numerical Methods for Unconstrained
+ * Optimization, Thm 2.4.3); callers pass `scale`, a length over which f′
+ * changes by order one (so |f″/f′| ≲ 1/scale), and a step below
+ * √(1e-3·tol·scale) then leaves an error far below tol: the iteration stops
+ * there without one more evaluation to confirm it. NaN when the start lies
+ * outside the bracket, f is not finite, or it does not settle in maxIter.
+ */
+export function safeguardedNewton(
+  f: (x: number) => readonly [number, number],
+  start: number,
+  lo: number,
+  hi: number,
+  tol: number,
+  scale: number,
+  maxIter = 40,
+): number {
+  if (!(start > lo && start < hi)) return NaN;
+  let x = start;
+  for (let it = 0; it < maxIter; it++) {
+    const [fx, slope] = f(x);
+    if (fx === 0) return x;
+    if (!Number.isFinite(fx)) return NaN;
+    if (fx < 0) lo = x;
+    else hi = x;
+    let next = slope > 0 ? x - fx / slope : NaN;
+    const newton = next > lo && next < hi;
+    if (!newton) next = 0.5 * (lo + hi);
+    const step = next - x;
+    if (Math.abs(step) <= tol) return next;
+    if (newton && step * step <= 1e-3 * tol * scale) return next;
+    x = next;
+  }
+  return NaN;
 }

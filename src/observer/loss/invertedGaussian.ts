@@ -7,7 +7,7 @@
  */
 import { z } from 'zod';
 import { gaussHermite, gaussLegendre } from '../../numerics/gaussRules.js';
-import { brentMinimize, brentRoot } from '../../numerics/roots.js';
+import { brentMinimize, brentRoot, safeguardedNewton } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
 import { maximiseOverNodes } from './hitOrMiss.js';
 import type { LossFunction, LossParameter } from './types.js';
@@ -111,38 +111,6 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
   return acc;
 }
 
-/**
- * Newton's method on the offset (decreasing in c, zero at the maximum) from a
- * neighbouring measurement's estimate, kept inside [lo, hi], which holds the
- * root for log-concave posteriors: mode and mean bracket the maximum. The
- * slope comes with the offset (kernelSpread). NaN when the hint is unusable or
- * the iteration does not settle; the caller then brackets with Brent's method.
- */
-function newtonOffset(objective: (c: number) => number, hint: number, lo: number, hi: number, tol: number, width: number): number {
-  if (!(hint > lo && hint < hi)) return NaN;
-  const inv2 = 1 / (width * width);
-  let c = hint;
-  for (let it = 0; it < 12; it++) {
-    objective(c);
-    const off = kernelOffset;
-    const slope = kernelSpread * inv2 - 1;
-    if (!Number.isFinite(off) || !(slope < 0)) return NaN;
-    if (off === 0) return c;
-    if (off > 0) lo = c;
-    else hi = c;
-    let next = c - off / slope;
-    const newton = next > lo && next < hi;
-    if (!newton) next = 0.5 * (lo + hi);
-    const step = next - c;
-    if (Math.abs(step) <= tol) return next;
-    // Quadratic convergence: an error of order step²/(posterior scale) remains,
-    // far below tol once the step is this small (see power.ts, newtonRoot).
-    if (newton && step * step <= 1e-3 * tol * width) return next;
-    c = next;
-  }
-  return NaN;
-}
-
 export function invertedGaussianLoss(width: number): LossFunction {
   return {
     family: 'inverted-gaussian',
@@ -167,7 +135,11 @@ export function invertedGaussianLoss(width: number): LossFunction {
         const hi = Math.max(mean, post.x[Math.min(post.last, jMax + 1)]);
         const offset = (c: number) => (objective(c), kernelOffset);
         const tol = 1e-13 * Math.max(1, Math.abs(mean));
-        const root = newtonOffset(objective, hint, lo, hi, tol, width);
+        // Newton on minus the offset (increasing in c, zero at the maximum), from
+        // a neighbouring measurement's estimate, kept inside [lo, hi]; its slope
+        // 1 − variance/ε² comes with the offset, and changes over about ε.
+        const inv2 = 1 / (width * width);
+        const root = safeguardedNewton((c) => (objective(c), [-kernelOffset, 1 - kernelSpread * inv2]), hint, lo, hi, tol, width, 12);
         if (Number.isFinite(root)) return root;
         const fa = offset(lo);
         const fb = offset(hi);

@@ -13,7 +13,7 @@
  * for p < 1 a coarse scan over nodes finds the global minimum first.
  */
 import { z } from 'zod';
-import { brentMinimize, brentRoot } from '../../numerics/roots.js';
+import { brentMinimize, brentRoot, safeguardedNewton } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
 import type { LossFunction, LossParameter } from './types.js';
 
@@ -67,13 +67,7 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
     slopeSum = s1;
     return s;
   }
-  // Density in x and its first two derivatives at c (from the panel polynomials).
-  const hx = 1e-3 * post.panelHalf[pc] * post.warp.dxdu(uc);
-  const g0 = post.densityX(c);
-  const gp = post.densityX(c + hx);
-  const gm = post.densityX(c - hx);
-  const g1 = (gp - gm) / (2 * hx);
-  const g2 = (gp - 2 * g0 + gm) / (hx * hx);
+  const [g0, g1, g2] = densityJet(post, c, pc, uc);
   const XA = post.warp.fromU(post.panelStart[pLo]) - c;
   const XB = post.warp.fromU(post.panelStart[pHi] + 2 * post.panelHalf[pHi]) - c;
   if (!odd) s += g0 * (evenAnti(XB, a) - evenAnti(XA, a)) + g1 * (oddAnti(XB, a + 1) - oddAnti(XA, a + 1)) + 0.5 * g2 * (evenAnti(XB, a + 2) - evenAnti(XA, a + 2));
@@ -97,44 +91,24 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   return s;
 }
 
+/**
+ * Density in x at c (in panel pc, at u = uc) and its first two derivatives, by
+ * central differences on the panel polynomials with a step of 1e-3 panel.
+ */
+function densityJet(post: GridPosterior, c: number, pc: number, uc: number): [number, number, number] {
+  const hx = 1e-3 * post.panelHalf[pc] * post.warp.dxdu(uc);
+  const g0 = post.densityX(c);
+  const gp = post.densityX(c + hx);
+  const gm = post.densityX(c - hx);
+  return [g0, (gp - gm) / (2 * hx), (gp - 2 * g0 + gm) / (hx * hx)];
+}
+
 /** Antiderivative of |s|^b (as sgn(s)|s|^(b+1)/(b+1)) and of sgn(s)|s|^b (as |s|^(b+1)/(b+1)). */
 function evenAnti(t: number, b: number): number {
   return ((t < 0 ? -1 : 1) * absPow(t, b + 1)) / (b + 1);
 }
 function oddAnti(t: number, b: number): number {
   return absPow(t, b + 1) / (b + 1);
-}
-
-/**
- * Safeguarded Newton iteration for the root of the increasing function
- * g(c) = E[sgn(c − x)|c − x|^a] inside [lo, hi], with the slope
- * a·slopeSum; bisection whenever a step leaves the bracket. Returns NaN when it
- * does not settle (the caller then brackets and uses Brent's method).
- */
-function newtonRoot(post: GridPosterior, a: number, start: number, lo: number, hi: number, scale: number): number {
-  const tol = 1e-12 * Math.max(1, Math.abs(start));
-  let x = start;
-  for (let it = 0; it < 40; it++) {
-    const gx = kinkedExpectation(post, x, a, true);
-    if (gx === 0) return x;
-    if (!Number.isFinite(gx)) return NaN;
-    if (gx < 0) lo = x;
-    else hi = x;
-    const dg = a * slopeSum;
-    let next = dg > 0 ? x - gx / dg : NaN;
-    const newton = next > lo && next < hi;
-    if (!newton) next = 0.5 * (lo + hi);
-    const step = next - x;
-    if (Math.abs(step) <= tol) return next;
-    // Newton's error after a step is about |g″/2g′|·step² (quadratic
-    // convergence; e.g. Dennis & Schnabel, Numerical Methods for Unconstrained
-    // Optimization, Thm 2.4.3), and |g″/g′| is of order 1/(posterior sd) here.
-    // A step this small therefore leaves an error far below tol: stop without
-    // paying for one more expectation just to confirm it.
-    if (newton && step * step <= 1e-3 * tol * scale) return next;
-    x = next;
-  }
-  return NaN;
 }
 
 /** Near a = p − 1 = 0 the slope E|c − x|^(a−1) diverges (at p = 1 it is twice the density); Brent's method there. */
@@ -149,7 +123,11 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
   if (p - 1 >= NEWTON_MIN_A) {
     let v = 0;
     for (let j = post.first; j <= post.last; j++) v += post.mass[j] * (post.x[j] - mean) ** 2;
-    const root = newtonRoot(post, p - 1, start, lo0, hi0, Math.sqrt(v));
+    // g(c) = E[sgn(c − x)|c − x|^a] is increasing with slope a·E|c − x|^(a−1)
+    // (from the same subtracted sum), and its slope changes over about a
+    // posterior sd.
+    const a = p - 1;
+    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(v));
     if (Number.isFinite(root)) return root;
   }
   // Curve hints are usually within 1e-4 of the root: a tight first bracket
@@ -258,13 +236,7 @@ function scanExpectation(post: GridPosterior, j: number, p: number): number {
     if (k !== k) k = row[i] = absPow(c - xs[i], p);
     s += mass[i] * k;
   }
-  const uc = post.u[j];
-  const hx = 1e-3 * post.panelHalf[pc] * post.warp.dxdu(uc);
-  const g0 = post.densityX(c);
-  const gp = post.densityX(c + hx);
-  const gm = post.densityX(c - hx);
-  const g1 = (gp - gm) / (2 * hx);
-  const g2 = (gp - 2 * g0 + gm) / (hx * hx);
+  const [g0, g1, g2] = densityJet(post, c, pc, post.u[j]);
   return s + g0 * node.k0 + g1 * node.k1 + g2 * node.k2;
 }
 
