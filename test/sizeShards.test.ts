@@ -102,7 +102,13 @@ describe('size in rounds on a cluster', () => {
     expect(merges[2]).toMatch(/The folder is final/);
     // Until the last round, summary.json and the report say the numbers are provisional; the final folder does not (it equals the single-machine one).
     expect(readJson<any>(join(afterRound1, 'summary.json')).sizing.provisional).toMatch(/^Provisional: .* holds round 1 only; round 2 \(plan .*round-2\/plan\.json\) is still to run/);
-    expect(readText(join(afterRound1, 'variants', 'narrow', 'report.html'))).toContain('Provisional: this sweep runs in rounds');
+    const provisionalReport = readText(join(afterRound1, 'variants', 'narrow', 'report.html'));
+    expect(provisionalReport).toContain('Provisional: this sweep runs in rounds');
+    // ... and says it above the headline too, before the first number a reader might cite.
+    const glance = provisionalReport.indexOf('id="glance"');
+    expect(glance).toBeGreaterThan(0);
+    expect(provisionalReport.indexOf('Provisional: this sweep runs in rounds', glance)).toBeLessThan(provisionalReport.indexOf('class="headline"', glance));
+    expect(readText(join(out, 'report.html'))).not.toContain('Provisional:');
     expect(readJson<any>(join(out, 'summary.json')).sizing.provisional).toBeUndefined();
     const plan = readJson<{ round: number; jobs: number; points: { from: number; to: number }[]; settings: { max: number } }>(join(out, 'round-2', 'plan.json'));
     expect(plan.round).toBe(2);

@@ -14,7 +14,11 @@ export const glance: Section = {
     const a = [...f.path, 'accuracy'];
     const b = [...f.path, 'balancedAccuracy'];
     const rows = f.summary.confusion.rows.map((_, i) => rowSentence(ctx, f, i));
-    return `<div class="headline">
+    // A sweep merged round by round on a cluster says so where the headline is
+    // read, not only in its own section: the number may still move.
+    const sizing = (ctx.data.summary as { sizing?: { provisional?: string } }).sizing;
+    const provisional = sizing?.provisional ? `<p class="warn">${ctx.text(['summary', 'sizing', 'provisional'])}</p>\n` : '';
+    return `${provisional}<div class="headline">
   <div class="big">${ctx.num([...a, 'estimate'], 'percent')}</div>
   <div class="big-text">of synthetic datasets were best fitted by the model that generated them, ${f.phrase}.<br>
   <span class="muted">95% interval ${ctx.num([...a, 'lower'], 'percent')} to ${ctx.num([...a, 'upper'], 'percent')} · ${ctx.num([...a, 'n'], 'count')} datasets · chance ${ctx.num([...f.path, 'chance'], 'percent')} · balanced accuracy ${ctx.num([...b, 'estimate'], 'percent')}</span></div>
