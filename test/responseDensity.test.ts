@@ -518,8 +518,8 @@ describe('(e) the quadrature over the measurement, with the estimate curve held 
   // which leave a little (measured worst 3.3e−6 of the density over these 60 trials, while the
   // old curve-node rule was ~1e−4 from the independent reference on the same case).
   // (With sub-steps, the Euler–Maclaurin corrections where step sizes change leave up to ~2e−4 on
-  // single trials, as the old rule did everywhere; at jumps the rule also covers the refinement
-  // gap, which the Simpson helper leaves out.)
+  // single trials, as the old rule did everywhere. At a jump the curve breaks at a single point,
+  // so the Simpson helper, which skips break segments, leaves nothing out there either.)
   it('uniform grid: each density matches composite Simpson on the same curve to 1e-5', () => {
     const [, prior, noise, loss] = lines[0];
     const obs = observer(prior, noise, loss, 2, 0, { lower: -100, upper: 200, ends: 'open' });

@@ -345,6 +345,13 @@ export class GridPosterior {
     return s;
   }
 
+  /** Posterior variance, about `mean` (the posterior mean unless given). */
+  variance(mean = this.mean()): number {
+    let v = 0;
+    for (let j = this.first; j <= this.last; j++) v += this.mass[j] * (this.x[j] - mean) ** 2;
+    return v;
+  }
+
   /** Posterior cdf at u (warped coordinate). */
   cdfU(u: number): number {
     const pf = this.firstPanel;
@@ -451,10 +458,7 @@ export class GridPosterior {
   convolveGaussian(sd: number): void {
     if (!(sd > 0)) return;
     const J = this.nNodes;
-    const mean = this.mean();
-    let v = 0;
-    for (let j = this.first; j <= this.last; j++) v += this.mass[j] * (this.x[j] - mean) ** 2;
-    const postSd = Math.sqrt(v);
+    const postSd = Math.sqrt(this.variance());
     const out = this.logVal;
     // Nodes that can receive mass: within 9 sd of the current window, in x.
     const xLo = this.x[this.first] - 9 * sd;

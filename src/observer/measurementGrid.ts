@@ -24,8 +24,9 @@
  *
  * Two things break uniformity:
  *  - jumps of x̂ (breakAfter on the curve): the curve's pieces between breaks
- *    are integrated separately, each extended to the middle of the gap that
- *    refinement leaves at the jump, so no measurement is left out;
+ *    are integrated separately; the curve puts each jump at a zero-width break
+ *    (estimateCurve.ts, closeGaps), so the pieces meet and no measurement is
+ *    left out;
  *  - segments where x̂ still moves more than SUBSTEP motor sds (the step
  *    clamped at H_MIN: motor noise small against slope × sensory noise, trap 1
  *    of issue #2) get uniform sub-steps, the count blended smoothly between
@@ -145,10 +146,9 @@ export class MeasurementGrid {
     const nc = cv.length;
     const eps = 1e-9 * h;
 
-    // Pieces between jumps, each end moved to the middle of the gap that refinement left at a jump
-    // (the jump lies somewhere inside it; x̂ there is the piece's cubic extrapolated across at most
-    // half a gap), so no measurement is left out. A lone node between two jumps (refinement
-    // closing in on one jump can leave one) holds its x̂ across its two half-gaps.
+    // Pieces between jumps. The curve's breaks have zero width (closeGaps), so neighbouring
+    // pieces meet and no measurement is left out. A piece of one node (a curve of a single
+    // node) holds its x̂.
     const pieceFrom: number[] = [];
     const pieceTo: number[] = [];
     let cap = 0;
@@ -157,8 +157,8 @@ export class MeasurementGrid {
       while (p1 < nc - 1 && !breakAfter[p1]) p1++;
       pieceFrom.push(p0);
       pieceTo.push(p1);
-      const a = p0 > 0 ? 0.5 * (cv[p0 - 1] + cv[p0]) : cv[p0];
-      const b = p1 < nc - 1 ? 0.5 * (cv[p1] + cv[p1 + 1]) : cv[p1];
+      const a = cv[p0];
+      const b = cv[p1];
       cap += Math.floor((b - a) / h) + 3;
       p0 = p1 + 1;
     }
@@ -179,8 +179,8 @@ export class MeasurementGrid {
     for (let q = 0; q < pieceFrom.length; q++) {
       const p0 = pieceFrom[q];
       const p1 = pieceTo[q];
-      const a = p0 > 0 ? 0.5 * (cv[p0 - 1] + cv[p0]) : cv[p0];
-      const b = p1 < nc - 1 ? 0.5 * (cv[p1] + cv[p1 + 1]) : cv[p1];
+      const a = cv[p0];
+      const b = cv[p1];
       pieceFirst[q] = n;
       if (p1 === p0) {
         for (let e = 0; e < (b > a ? 2 : 1); e++) {
@@ -256,8 +256,8 @@ export class MeasurementGrid {
           const d = v[i2] - v[i];
           if (d > 0) {
             // x̂ range over the segment: the values at its nodes, the curve nodes inside, and how
-            // far each cubic piece it overlaps can bend off its chord (curveSeg −1: a lone node's
-            // constant piece).
+            // far each cubic piece it overlaps can bend off its chord (curveSeg −1: a one-node
+            // piece's constant).
             let sLo = Infinity;
             let sHi = -Infinity;
             for (let k = i; k <= i2; k++) {

@@ -84,15 +84,11 @@ function polish(post: GridPosterior, c0: number, window: number): number {
     }
     return c;
   };
-  // A centre closer to a support end than ε only loses mass (see hitOrMissLoss).
-  const [sLo, sHi] = post.supportX;
-  let a = Math.max(edge(-1), Number.isFinite(sLo) ? sLo + window : -Infinity);
-  let b = Math.min(edge(1), Number.isFinite(sHi) ? sHi - window : Infinity);
-  if (!(b > a)) return c0;
-  let ga = g(a);
-  let gb = g(b);
-  if (ga === Infinity) ga = g((a += 1e-9 * (b - a)));
-  if (gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
+  const [cMin, cMax] = centreRange(post, window);
+  const lo = Math.max(edge(-1), cMin);
+  const hi = Math.min(edge(1), cMax);
+  if (!(hi > lo)) return c0;
+  const { a, b, ga, gb } = finiteEnds(g, lo, hi);
   if (!(Number.isFinite(ga) && Number.isFinite(gb)) || ga * gb > 0) return c0;
   const c = brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(c0)), 200, { fa: ga, fb: gb });
   // On a plateau the root holds the top mass too; elsewhere only keep a root that does.
@@ -102,10 +98,27 @@ function polish(post: GridPosterior, c0: number, window: number): number {
 /** Window masses this close to the best count as tied: the panel polynomials give window masses to about 1e-8 where a window edge sits in a far tail (measured: masses of 1 + 1.3e-8). */
 const PLATEAU_TOL = 1e-7;
 
-function nearestNode(post: GridPosterior, c: number): number {
-  let best = post.first;
-  for (let j = post.first; j <= post.last; j++) if (Math.abs(post.x[j] - c) < Math.abs(post.x[best] - c)) best = j;
-  return best;
+/**
+ * Where a window centre can usefully sit: a centre closer to a support end than
+ * ε only loses mass, so centres stay within [lower + ε, upper − ε].
+ */
+function centreRange(post: GridPosterior, window: number): [number, number] {
+  const [sLo, sHi] = post.supportX;
+  return [Number.isFinite(sLo) ? sLo + window : -Infinity, Number.isFinite(sHi) ? sHi - window : Infinity];
+}
+
+/**
+ * g(c) = log f(c + ε) − log f(c − ε) at the ends of a bracket [a, b]. A window
+ * edge exactly on a support end where the density vanishes (gamma, shape > 1)
+ * gives g = ±∞ there: the sign is right but Brent's interpolation needs finite
+ * values, so such an end steps a hair inside.
+ */
+function finiteEnds(g: (c: number) => number, a: number, b: number): { a: number; b: number; ga: number; gb: number } {
+  let ga = g(a);
+  let gb = g(b);
+  if (ga === Infinity) ga = g((a += 1e-9 * (b - a)));
+  if (gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
+  return { a, b, ga, gb };
 }
 
 export function hitOrMissLoss(window: number): LossFunction {
@@ -127,25 +140,14 @@ export function hitOrMissLoss(window: number): LossFunction {
             j = i;
           }
         }
-        // A window cannot usefully stick out of the support: its centre stays
-        // within [lower + ε, upper − ε], and sits at that end when the posterior
-        // is still falling there (the mode is at or near the end).
-        const [sLo, sHi] = post.supportX;
-        const cMin = Number.isFinite(sLo) ? sLo + window : -Infinity;
-        const cMax = Number.isFinite(sHi) ? sHi - window : Infinity;
-        let a = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
-        let b = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
+        // The centre stays within the support less ε, and sits at that end when
+        // the posterior is still falling there (the mode is at or near the end).
+        const [cMin, cMax] = centreRange(post, window);
         const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-        let ga = g(a);
-        let gb = g(b);
-        // A window edge exactly on a support end where the density vanishes
-        // (gamma, shape > 1) gives g = ±∞ there: the sign is right but Brent's
-        // interpolation needs finite values, so step a hair inside.
-        if (a === cMin && ga === Infinity) ga = g((a += 1e-9 * (b - a)));
-        if (b === cMax && gb === -Infinity) gb = g((b -= 1e-9 * (b - a)));
+        const { a, b, ga, gb } = finiteEnds(g, Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window), Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window));
         if (a === cMin && ga <= 0) return cMin;
         if (b === cMax && gb >= 0) return cMax;
-        if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])));
+        if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, 1e-14 * Math.max(1, Math.abs(post.x[j])), 200, { fa: ga, fb: gb });
       }
       return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
     },

@@ -143,7 +143,7 @@ export function invertedGaussianLoss(width: number): LossFunction {
         if (Number.isFinite(root)) return root;
         const fa = offset(lo);
         const fb = offset(hi);
-        if (fa >= 0 && fb <= 0) return brentRoot(offset, lo, hi, 1e-13 * Math.max(1, Math.abs(mean)), 200, { fa, fb });
+        if (fa >= 0 && fb <= 0) return brentRoot(offset, lo, hi, tol, 200, { fa, fb });
         return brentMinimize((c) => -objective(c), lo, hi, 1e-12).x;
       }
       return maximiseOverNodes(post, objective, 3);

@@ -121,13 +121,11 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
   const mean = post.mean();
   let start = Number.isFinite(hint) && hint > lo0 && hint < hi0 ? hint : mean;
   if (p - 1 >= NEWTON_MIN_A) {
-    let v = 0;
-    for (let j = post.first; j <= post.last; j++) v += post.mass[j] * (post.x[j] - mean) ** 2;
     // g(c) = E[sgn(c − x)|c − x|^a] is increasing with slope a·E|c − x|^(a−1)
     // (from the same subtracted sum), and its slope changes over about a
     // posterior sd.
     const a = p - 1;
-    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(v));
+    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(post.variance(mean)));
     if (Number.isFinite(root)) return root;
   }
   // Curve hints are usually within 1e-4 of the root: a tight first bracket
