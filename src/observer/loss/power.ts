@@ -74,7 +74,7 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   else {
     s -= g0 * (oddAnti(XB, a) - oddAnti(XA, a)) + g1 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1)) + 0.5 * g2 * (oddAnti(XB, a + 2) - oddAnti(XA, a + 2));
     // The slope's kernel |c − x|^(a−1) is even; its subtracted part, exactly.
-    if (a > 0) s1 += g0 * (evenAnti(XB, a - 1) - evenAnti(XA, a - 1)) + g1 * (oddAnti(XB, a) - oddAnti(XA, a)) + 0.5 * g2 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1));
+    if (a !== 0) s1 += g0 * (evenAnti(XB, a - 1) - evenAnti(XA, a - 1)) + g1 * (oddAnti(XB, a) - oddAnti(XA, a)) + 0.5 * g2 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1));
   }
   for (let j = jLo; j <= jHi; j++) {
     const d = c - xs[j];
@@ -111,26 +111,45 @@ function oddAnti(t: number, b: number): number {
   return absPow(t, b + 1) / (b + 1);
 }
 
-/** Near a = p − 1 = 0 the slope E|c − x|^(a−1) diverges (at p = 1 it is twice the density); Brent's method there. */
+/**
+ * Near a = p − 1 = 0 the slope a·E|c − x|^(a−1) is a difference of large
+ * terms (at p = 1 it is twice the density); Brent's method there.
+ */
 const NEWTON_MIN_A = 0.2;
 
-function convexEstimate(post: GridPosterior, p: number, hint: number): number {
-  const g = (c: number) => kinkedExpectation(post, c, p - 1, true);
+/**
+ * The root of g(c) = E[sgn(c − x)|c − x|^a], a = p − 1, where the expected
+ * loss is least: Newton steps with the slope a·E|c − x|^(a−1) from the same
+ * subtracted sum (for a < 0 its Hadamard finite part, which the subtraction
+ * gives when the analytic terms are taken as finite parts), the slope
+ * changing over about a posterior sd; Brent's method near a = 0 or when
+ * Newton does not settle. `centre` starts it when the hint is unusable.
+ */
+function derivativeRoot(post: GridPosterior, p: number, hint: number, centre: () => number): number {
+  const a = p - 1;
   const lo0 = post.x[post.first];
   const hi0 = post.x[post.last];
-  const mean = post.mean();
-  let start = Number.isFinite(hint) && hint > lo0 && hint < hi0 ? hint : mean;
-  if (p - 1 >= NEWTON_MIN_A) {
-    // g(c) = E[sgn(c − x)|c − x|^a] is increasing with slope a·E|c − x|^(a−1)
-    // (from the same subtracted sum), and its slope changes over about a
-    // posterior sd.
-    const a = p - 1;
-    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(post.variance(mean)));
+  const close = Number.isFinite(hint) && hint > lo0 && hint < hi0;
+  const start = close ? hint : centre();
+  if (Math.abs(a) >= NEWTON_MIN_A) {
+    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(post.variance(post.mean())));
     if (Number.isFinite(root)) return root;
   }
-  // Curve hints are usually within 1e-4 of the root: a tight first bracket
-  // saves Brent several steps, and doubling finds a wide one in a few more.
-  let step = (Number.isFinite(hint) ? 0.002 : 0.05) * (hi0 - lo0);
+  return bracketedRoot((c) => kinkedExpectation(post, c, a, true), start, lo0, hi0, close, start);
+}
+
+function convexEstimate(post: GridPosterior, p: number, hint: number): number {
+  return derivativeRoot(post, p, hint, () => post.mean());
+}
+
+/**
+ * The root of an increasing g in [lo0, hi0] from a start: a bracket grown
+ * around the start, then Brent. Curve hints are usually within 1e-4 of the
+ * root: a tight first bracket saves Brent several steps, and doubling finds a
+ * wide one in a few more. `fallback` when g has no sign change.
+ */
+function bracketedRoot(g: (c: number) => number, start: number, lo0: number, hi0: number, close: boolean, fallback: number): number {
+  let step = (close ? 0.002 : 0.05) * (hi0 - lo0);
   let a = Math.max(lo0, start - step);
   let b = Math.min(hi0, start + step);
   let ga = g(a);
@@ -150,7 +169,7 @@ function convexEstimate(post: GridPosterior, p: number, hint: number): number {
     }
     if (a === lo0 && b === hi0 && ga * gb > 0) break;
   }
-  if (ga * gb > 0) return mean;
+  if (ga * gb > 0) return fallback;
   return brentRoot(g, a, b, 1e-12 * Math.max(1, Math.abs(start)), 200, { fa: ga, fb: gb });
 }
 
@@ -238,7 +257,20 @@ function scanExpectation(post: GridPosterior, j: number, p: number): number {
   return s + g0 * node.k0 + g1 * node.k1 + g2 * node.k2;
 }
 
-function nonConvexEstimate(post: GridPosterior, p: number): number {
+/**
+ * p < 1 on a log-concave posterior: the expected loss has a single minimum.
+ * (The expected gain E[G(c − x)] with G(e) = M − |e|^p, cut at 0, is the
+ * convolution of the posterior with a unimodal function, and a log-concave
+ * density's convolution with any unimodal one is unimodal: Ibragimov, Theory
+ * Probab. Appl. 1:255, 1956.) Its derivative changes sign once, so a
+ * root search from the curve's hint replaces the global scan.
+ */
+function unimodalEstimate(post: GridPosterior, p: number, hint: number): number {
+  return derivativeRoot(post, p, hint, () => post.x[post.peakNode()]);
+}
+
+function nonConvexEstimate(post: GridPosterior, p: number, hint: number): number {
+  if (post.logConcave) return unimodalEstimate(post, p, hint);
   const h = (c: number) => kinkedExpectation(post, c, p, false);
   const stride = 3;
   const js: number[] = [];
@@ -308,7 +340,7 @@ export function powerLoss(exponent: number): LossFunction {
     family: 'power',
     params: { exponent },
     loss: (e) => Math.pow(Math.abs(e), exponent),
-    estimate: (post, hint) => (exponent >= 1 ? convexEstimate(post, exponent, hint) : nonConvexEstimate(post, exponent)),
+    estimate: (post, hint) => (exponent >= 1 ? convexEstimate(post, exponent, hint) : nonConvexEstimate(post, exponent, hint)),
     mayJump: exponent < 1,
     symmetric: true,
   };
