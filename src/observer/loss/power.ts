@@ -116,6 +116,14 @@ function oddAnti(t: number, b: number): number {
  * terms (at p = 1 it is twice the density); Brent's method there.
  */
 const NEWTON_MIN_A = 0.2;
+/**
+ * Newton's tolerance in posterior sds. Its early stop leaves an error below
+ * 1e−3 of this (roots.ts), 1e−12 sd: far below what the likelihood can see,
+ * and small enough that a change in the iteration count as parameters move
+ * leaves no visible step. (It was 1e−12 of |x̂|, which cost a confirming
+ * evaluation on most estimates.)
+ */
+const NEWTON_TOL = 1e-6;
 
 /**
  * The root of g(c) = E[sgn(c − x)|c − x|^a], a = p − 1, where the expected
@@ -132,7 +140,8 @@ function derivativeRoot(post: GridPosterior, p: number, hint: number, centre: ()
   const close = Number.isFinite(hint) && hint > lo0 && hint < hi0;
   const start = close ? hint : centre();
   if (Math.abs(a) >= NEWTON_MIN_A) {
-    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, 1e-12 * Math.max(1, Math.abs(start)), Math.sqrt(post.variance(post.mean())));
+    const sd = Math.sqrt(post.variance(post.mean()));
+    const root = safeguardedNewton((c) => [kinkedExpectation(post, c, a, true), a * slopeSum], start, lo0, hi0, NEWTON_TOL * sd, sd);
     if (Number.isFinite(root)) return root;
   }
   return bracketedRoot((c) => kinkedExpectation(post, c, a, true), start, lo0, hi0, close, start);
