@@ -82,12 +82,23 @@ const FLAT_RATIO = 1e-8;
  * are exactly those a fresh evaluation would give.
  */
 const TERM_CACHE_SIZE = 4;
+/**
+ * The estimate curve does not depend on the motor sd (for an observer that is
+ * not motor-aware) except through its refinement tolerance, 10⁻⁴ σm: a point
+ * whose σm differs by less than this fraction from a cached point's, all else
+ * equal (a gradient or Hessian probe along σm), reuses that point's curves
+ * and rebuilds only the measurement grids and trial integrals. Its curve then
+ * meets the tolerance of a σm within 1% of its own, and the same fit always
+ * makes the same calls in the same order, so results stay reproducible.
+ */
+const CURVE_REUSE = 0.01;
 /** One-sided gradient probes while the gradient exceeds this many tolerances (see bfgs). */
 const FORWARD_DIFFERENCE_FACTOR = 30;
 
 export function negLogLikObjective(model: CandidateModel, data: Dataset, failures: string[]): (z: readonly number[]) => number {
   const lapseIndex = model.free.findIndex((p) => p.name === 'lapseRate');
-  const cache: { key: string; terms: LapseFreeTerms }[] = [];
+  const motorIndex = model.free.findIndex((p) => p.name === 'motorSd');
+  const cache: { key: string; curveKey: string; motorSd: number; terms: LapseFreeTerms }[] = [];
   return (z) => {
     try {
       const theta = model.free.map((p, i) => toParameter(p, z[i]));
@@ -95,8 +106,10 @@ export function negLogLikObjective(model: CandidateModel, data: Dataset, failure
       let terms = cache.find((e) => e.key === key)?.terms;
       const obs = observerFor(model, theta);
       if (!terms) {
-        terms = lapseFreeTerms(obs, data);
-        cache.push({ key, terms });
+        const curveKey = theta.map((t, i) => (i === lapseIndex || i === motorIndex ? '' : String(t))).join(',');
+        const near = obs.motorAware ? undefined : cache.find((e) => e.curveKey === curveKey && Math.abs(obs.motorSd / e.motorSd - 1) <= CURVE_REUSE);
+        terms = lapseFreeTerms(obs, data, near?.terms.curves);
+        cache.push({ key, curveKey, motorSd: obs.motorSd, terms });
         if (cache.length > TERM_CACHE_SIZE) cache.shift();
       }
       const ll = logLikelihoodFromTerms(terms, obs.lapseRate);

@@ -345,8 +345,12 @@ export class ConditionResponse {
   }
 }
 
-/** Per-condition response models covering the stimuli of a dataset. */
-export function responseModels(obs: Observer, data: Dataset): ConditionResponse[] {
+/**
+ * Per-condition response models covering the stimuli of a dataset; `curves`
+ * (per condition) supplies estimate curves already built for this observer
+ * and noise, as in the ConditionResponse constructor.
+ */
+export function responseModels(obs: Observer, data: Dataset, curves?: readonly (EstimateCurve | null)[]): ConditionResponse[] {
   const nCond = obs.noise.length;
   const lo = new Array(nCond).fill(Infinity);
   const hi = new Array(nCond).fill(-Infinity);
@@ -356,7 +360,7 @@ export function responseModels(obs: Observer, data: Dataset): ConditionResponse[
     if (x < lo[c]) lo[c] = x;
     if (x > hi[c]) hi[c] = x;
   }
-  return obs.noise.map((noise, c) => (Number.isFinite(lo[c]) ? new ConditionResponse(obs, noise, lo[c], hi[c]) : (null as unknown as ConditionResponse)));
+  return obs.noise.map((noise, c) => (Number.isFinite(lo[c]) ? new ConditionResponse(obs, noise, lo[c], hi[c], curves?.[c] ?? undefined) : (null as unknown as ConditionResponse)));
 }
 
 /**
@@ -369,10 +373,12 @@ export function responseModels(obs: Observer, data: Dataset): ConditionResponse[
 export interface LapseFreeTerms {
   core: Float64Array;
   lapse: Float64Array;
+  /** Each condition's estimate curve (null: closed form, or no trials), for a caller that may reuse it. */
+  curves: (EstimateCurve | null)[];
 }
 
-export function lapseFreeTerms(obs: Observer, data: Dataset): LapseFreeTerms {
-  const models = responseModels(obs, data);
+export function lapseFreeTerms(obs: Observer, data: Dataset, curves?: readonly (EstimateCurve | null)[]): LapseFreeTerms {
+  const models = responseModels(obs, data, curves);
   const { scale } = obs;
   const range = scale.upper - scale.lower;
   const tol = 1e-9 * range;
@@ -390,7 +396,7 @@ export function lapseFreeTerms(obs: Observer, data: Dataset): LapseFreeTerms {
       lapse[t] = r >= scale.lower && r <= scale.upper ? 1 / range : 0;
     }
   }
-  return { core, lapse };
+  return { core, lapse, curves: models.map((m) => (m ? m.curve : null)) };
 }
 
 /** Σ log p_t for the terms at lapse rate λ; every trial is floored at 1e-300 so the sum is always finite. */

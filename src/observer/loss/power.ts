@@ -52,43 +52,96 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   const pc = Number.isFinite(uc) ? post.panelOf(uc) : -10;
   const pLo = Math.max(post.firstPanel, pc - 1);
   const pHi = Math.min(post.lastPanel, pc + 1);
-  const jLo = pLo * n;
-  const jHi = pHi * n + n - 1;
-  let s = 0;
-  let s1 = 0;
-  for (let j = post.first; j <= post.last; j++) {
-    if (j >= jLo && j <= jHi) continue;
-    const d = c - xs[j];
-    const k = absPow(d, a);
-    s += mass[j] * (odd && d < 0 ? -k : k);
-    if (odd && d !== 0) s1 += (mass[j] * k) / Math.abs(d);
-  }
   if (pLo > pHi) {
+    // c far outside the window: no kink among the nodes.
+    let s = 0;
+    let s1 = 0;
+    for (let j = post.first; j <= post.last; j++) {
+      const d = c - xs[j];
+      const k = absPow(d, a);
+      s += mass[j] * (odd && d < 0 ? -k : k);
+      if (odd && d !== 0) s1 += (mass[j] * k) / Math.abs(d);
+    }
     slopeSum = s1;
     return s;
   }
+  const jLo = pLo * n;
+  const jHi = pHi * n + n - 1;
+  // Nodes left of the three panels lie below c, those right of them above: no sign tests.
+  let below = 0;
+  let below1 = 0;
+  for (let j = post.first, e = Math.min(post.last, jLo - 1); j <= e; j++) {
+    const d = c - xs[j];
+    const k = mass[j] * Math.exp(a * Math.log(d));
+    below += k;
+    below1 += k / d;
+  }
+  let above = 0;
+  let above1 = 0;
+  for (let j = Math.max(post.first, jHi + 1); j <= post.last; j++) {
+    const d = xs[j] - c;
+    const k = mass[j] * Math.exp(a * Math.log(d));
+    above += k;
+    above1 += k / d;
+  }
+  let s = odd ? below - above : below + above;
+  let s1 = below1 + above1;
   const [g0, g1, g2] = densityJet(post, c, pc, uc);
   const XA = post.warp.fromU(post.panelStart[pLo]) - c;
   const XB = post.warp.fromU(post.panelStart[pHi] + 2 * post.panelHalf[pHi]) - c;
-  if (!odd) s += g0 * (evenAnti(XB, a) - evenAnti(XA, a)) + g1 * (oddAnti(XB, a + 1) - oddAnti(XA, a + 1)) + 0.5 * g2 * (evenAnti(XB, a + 2) - evenAnti(XA, a + 2));
+  // The subtracted Taylor terms integrated exactly: antiderivatives of
+  // |s|^b and sgn(s)|s|^b for b = a − 1 … a + 2, all from one power per end.
+  const A = endPowers(XA, a);
+  const B = endPowers(XB, a);
+  if (!odd) s += g0 * (B[1] * sgn(XB) - A[1] * sgn(XA)) / (a + 1) + (g1 * (B[2] - A[2])) / (a + 2) + (0.5 * g2 * (B[3] * sgn(XB) - A[3] * sgn(XA))) / (a + 3);
   else {
-    s -= g0 * (oddAnti(XB, a) - oddAnti(XA, a)) + g1 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1)) + 0.5 * g2 * (oddAnti(XB, a + 2) - oddAnti(XA, a + 2));
-    // The slope's kernel |c − x|^(a−1) is even; its subtracted part, exactly.
-    if (a !== 0) s1 += g0 * (evenAnti(XB, a - 1) - evenAnti(XA, a - 1)) + g1 * (oddAnti(XB, a) - oddAnti(XA, a)) + 0.5 * g2 * (evenAnti(XB, a + 1) - evenAnti(XA, a + 1));
+    s -= (g0 * (B[1] - A[1])) / (a + 1) + (g1 * (B[2] * sgn(XB) - A[2] * sgn(XA))) / (a + 2) + (0.5 * g2 * (B[3] - A[3])) / (a + 3);
+    // The slope's kernel |c − x|^(a−1) is even; its subtracted part, exactly
+    // (for a < 0 the Hadamard finite part).
+    if (a !== 0) s1 += (g0 * (B[0] * sgn(XB) - A[0] * sgn(XA))) / a + (g1 * (B[1] - A[1])) / (a + 1) + (0.5 * g2 * (B[2] * sgn(XB) - A[2] * sgn(XA))) / (a + 2);
   }
-  for (let j = jLo; j <= jHi; j++) {
+  const dxdu = nodeJacobian(post);
+  for (let j = Math.max(jLo, post.first), e = Math.min(jHi, post.last); j <= e; j++) {
     const d = c - xs[j];
     const k = absPow(d, a);
     const sd = -d; // x − c
     const taylor = g0 + g1 * sd + 0.5 * g2 * sd * sd;
-    const dxdu = post.warp.dxdu(post.u[j]);
-    let val = k * (post.f[j] - dxdu * taylor);
+    let val = k * (post.f[j] - dxdu[j] * taylor);
     if (odd && d !== 0) s1 += (post.quadWeight[j] * val) / Math.abs(d);
     if (odd && d < 0) val = -val;
     s += post.quadWeight[j] * val;
   }
   slopeSum = s1;
   return s;
+}
+
+const sgn = (t: number) => (t < 0 ? -1 : 1);
+
+/** |X|^a, |X|^(a+1), |X|^(a+2), |X|^(a+3) from one exp and log (scratch, reused). */
+const endA = new Float64Array(4);
+const endB = new Float64Array(4);
+let endFlip = false;
+function endPowers(X: number, a: number): Float64Array {
+  const out = (endFlip = !endFlip) ? endA : endB;
+  const t = Math.abs(X);
+  const p = absPow(t, a);
+  out[0] = p;
+  out[1] = p * t;
+  out[2] = p * t * t;
+  out[3] = p * t * t * t;
+  return out;
+}
+
+/** dx/du at every posterior node, once per grid (every measurement of a curve shares it). */
+const jacobians = new WeakMap<GridPosterior, Float64Array>();
+function nodeJacobian(post: GridPosterior): Float64Array {
+  let J = jacobians.get(post);
+  if (!J) {
+    J = new Float64Array(post.nNodes);
+    for (let j = 0; j < post.nNodes; j++) J[j] = post.warp.dxdu(post.u[j]);
+    jacobians.set(post, J);
+  }
+  return J;
 }
 
 /**
