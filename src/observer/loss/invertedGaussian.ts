@@ -142,7 +142,10 @@ export function invertedGaussianLoss(width: number): LossFunction {
         // a neighbouring measurement's estimate, kept inside [lo, hi]; its slope
         // 1 − variance/ε² comes with the offset, and changes over about ε.
         const inv2 = 1 / (width * width);
-        const root = safeguardedNewton((c) => (objective(c), [-kernelOffset, 1 - kernelSpread * inv2]), hint, lo, hi, tol, width, 12);
+        // A hint outside the bracket (the first nodes of a curve, or a jump) starts it mid-bracket
+        // rather than sending the search to Brent.
+        const start = hint > lo && hint < hi ? hint : 0.5 * (lo + hi);
+        const root = safeguardedNewton((c) => (objective(c), [-kernelOffset, 1 - kernelSpread * inv2]), start, lo, hi, tol, width, 12);
         if (Number.isFinite(root)) return root;
         const fa = offset(lo);
         const fb = offset(hi);
