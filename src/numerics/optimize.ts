@@ -60,8 +60,6 @@ export interface MinimizeResult {
   reason: string;
 }
 
-/** Goldstein's constant: a step is too short when f fell by more than this share of t·slope. */
-const GOLDSTEIN = 0.9;
 const NON_FINITE_START = 'non-finite objective at start';
 const BUDGET = 'evaluation budget exhausted';
 
@@ -397,24 +395,6 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
         t *= 0.1;
       }
       backtracked = true;
-    }
-    // A full step that bought almost all of the linear decrease t·slope fell
-    // far short of the minimum along the line (at a quadratic's minimiser the
-    // decrease is half of it): the step fails Goldstein's lower bound
-    // (Nocedal & Wright §3.1), so double it while that holds and f keeps
-    // falling. Without this, an H too small in some direction (a curvature
-    // pair taken where the objective bends sharply, or a skipped update on a
-    // flat stretch) creeps along it at the same short step, iteration after
-    // iteration (measured on the power-loss fit: 300 evaluations for 0.3 of z).
-    if (accepted !== null && !backtracked) {
-      while (accepted.f < fx + GOLDSTEIN * t * slope) {
-        const xt = x.map((v, i) => v + 2 * t * p[i]);
-        const ft = obj.evaluate(xt);
-        if (obj.starved) return obj.result(false, BUDGET);
-        if (!(ft < accepted.f)) break;
-        t *= 2;
-        accepted = { x: xt, f: ft };
-      }
     }
     if (accepted === null) {
       if (!rawIdentity) {
