@@ -395,7 +395,9 @@ describe('inverted-gaussian against an independent smoothed-posterior maximisati
     const grid = gridFor(prior, noise, xLo, xHi);
     for (const x of [0.5 * xLo, xLo, 0.5 * (xLo + xHi), xHi, xHi + 2]) {
       const m = noise.center(x);
-      for (const eps of [0.05, 0.3, 1, 3]) {
+      // 0.5/0.55 and 0.75/0.85 sit either side of the switch between the exact-density and
+      // node-sum paths (0.35 panels: 0.525 for the constant-1 grid, 0.79 for constant 1.5).
+      for (const eps of [0.05, 0.3, 0.5, 0.55, 0.75, 0.85, 1, 3]) {
         grid.setMeasurement(m);
         const s = postSd(grid);
         const mean = grid.mean();
@@ -405,6 +407,26 @@ describe('inverted-gaussian against an independent smoothed-posterior maximisati
         const ref = bruteInvertedGaussian(prior, noise, m, eps, lo, hi);
         expect(Math.abs(e - ref) / s, `x ${x}, eps ${eps}: ${e} vs ${ref}`).toBeLessThanOrEqual(1e-5);
       }
+    }
+  });
+});
+
+describe('inverted-gaussian: the exact-density and node-sum paths meet at their switch', () => {
+  it('estimates just below and just above the switching width agree within 1e-9 posterior sd', () => {
+    const prior = new Gamma(2, 9);
+    const noise = new ConstantNoise(6);
+    const grid = gridFor(prior, noise, 1, 60);
+    for (const x of [1, 8, 20, 45]) {
+      grid.setMeasurement(noise.center(x));
+      // The panel holding the posterior's peak sets the switch (0.35 of its width in x).
+      let jMax = grid.first;
+      for (let j = grid.first; j <= grid.last; j++) if (grid.f[j] > grid.f[jMax]) jMax = j;
+      const p = Math.floor(jMax / 10);
+      const panelX = 2 * grid.panelHalf[p] * grid.warp.dxdu(grid.panelStart[p] + grid.panelHalf[p]);
+      const w = 0.35 * panelX;
+      const below = invertedGaussianLoss(w * (1 - 1e-9)).estimate(grid, NaN);
+      const above = invertedGaussianLoss(w * (1 + 1e-9)).estimate(grid, NaN);
+      expect(Math.abs(below - above) / postSd(grid)).toBeLessThanOrEqual(1e-9);
     }
   });
 });

@@ -113,20 +113,30 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
   return acc;
 }
 
+/**
+ * Below this kernel width, in panel widths, the kernel is integrated against
+ * the exact density instead of summed over the posterior's nodes. The
+ * 10-point Gauss–Legendre panel integrates the Gaussian kernel alone to
+ * 3.5e−13 of its mass at 0.35 panels (4e−15 at 0.44, 2.6e−10 at 0.25;
+ * measured against erf over all kernel positions), and the node sum costs
+ * one exp per node within reach where the exact density costs a log-density.
+ */
+const NARROW = 0.35;
+
 export function invertedGaussianLoss(width: number): LossFunction {
   return {
     family: 'inverted-gaussian',
     params: { width },
     loss: (e) => 1 - Math.exp((-e * e) / (2 * width * width)),
     estimate: (post, hint) => {
-      // Narrow regime when ε is below half a panel (in x) where the posterior peaks;
+      // Narrow regime when ε is below NARROW panels (in x) where the posterior peaks;
       // the node sum needs several nodes per kernel width.
       let jMax = post.first;
       for (let j = post.first; j <= post.last; j++) if (post.f[j] > post.f[jMax]) jMax = j;
       const p = Math.floor(jMax / NODES_PER_PANEL);
       const uMid = post.panelStart[p] + post.panelHalf[p];
       const panelX = 2 * post.panelHalf[p] * post.warp.dxdu(uMid);
-      const narrow = width < 0.5 * panelX;
+      const narrow = width < NARROW * panelX;
       const ref = post.exactAvailable ? post.exactLogDensity(post.x[jMax]) : 0;
       const objective = (c: number) => smoothedPosterior(post, c, width, narrow, ref);
       if (post.logConcave) {
