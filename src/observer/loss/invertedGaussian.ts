@@ -9,6 +9,7 @@ import { z } from 'zod';
 import { gaussHermite, gaussLegendre } from '../../numerics/gaussRules.js';
 import { brentMinimize, brentRoot, safeguardedNewton } from '../../numerics/roots.js';
 import { NODES_PER_PANEL, type GridPosterior } from '../gridPosterior.js';
+import { expNeg } from '../../numerics/expTable.js';
 import { maximiseOverNodes } from './hitOrMiss.js';
 import type { LossFunction, LossParameter } from './types.js';
 
@@ -94,6 +95,7 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     return acc * s;
   }
   const inv = 1 / (2 * width * width);
+  // Nodes beyond √40 ε weigh less than e^−20 (and the table exp covers the range).
   const cut = 40 * width * width;
   let acc = 0;
   let acc1 = 0;
@@ -102,7 +104,7 @@ function smoothedPosterior(post: GridPosterior, c: number, width: number, narrow
     const d = post.x[j] - c;
     const d2 = d * d;
     if (d2 < cut) {
-      const t = post.mass[j] * Math.exp(-d2 * inv);
+      const t = post.mass[j] * expNeg(d2 * inv);
       acc += t;
       acc1 += t * d;
       acc2 += t * d2;
