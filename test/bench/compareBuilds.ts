@@ -1,29 +1,35 @@
 /**
- * Interleaved A/B timing of two builds of lossprobe in one process:
+ * A/B timing of two builds of lossprobe, alternating between them:
  *
- *   npx tsx test/bench/compareBuilds.ts OLD_DIST NEW_DIST [--rounds 7] [--fits] [--more]
+ *   npx tsx test/bench/compareBuilds.ts OLD_DIST NEW_DIST [--rounds 5] [--fits] [--more]
  *
  * e.g. `cp -r dist /tmp/old-dist` before a change, rebuild, then compare
  * /tmp/old-dist with dist. Both builds time the same cases as `npm run bench`
  * section 1 (section 2 with --fits; with --more, other priors, noise families
- * and motor noise levels, including the traps of issue #2), alternating A, B, A, B ... so that the
- * machine's slow drifts (timings here vary 2× between runs, other jobs share
- * the cores) hit both alike; the printed ratio is the median over rounds of
- * the per-round ratio B/A. Each build constructs its own observers and data
- * (from the same seeds), so no object crosses from one build's code to the
- * other's (which could de-optimise either).
+ * and motor noise levels, including the traps of issue #2). Each round runs
+ * one child process per build, in the order A, B then B, A (so that the
+ * machine's slow drifts hit both alike: timings here vary 2× between runs,
+ * other jobs share the cores); the printed ratio is the median over rounds of
+ * the per-round ratio B/A.
+ *
+ * One build per process: with both builds loaded in one process (as this tool
+ * did before), two copies of the same build timed 2.2× apart, the second one
+ * loaded being the slower (measured on this machine), so the ratios said more
+ * about load order than about the code.
  */
+import { spawnSync } from 'node:child_process';
 import { resolve } from 'node:path';
-import { pathToFileURL } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const args = process.argv.slice(2);
 const flag = (name: string, dflt: number) => {
   const i = args.indexOf(name);
   return i >= 0 ? Number(args[i + 1]) : dflt;
 };
-const [distA, distB] = args.filter((a, i) => !a.startsWith('--') && !(i > 0 && args[i - 1] === '--rounds'));
-if (!distA || !distB) throw new Error('usage: compareBuilds.ts OLD_DIST NEW_DIST [--rounds N] [--fits]');
-const rounds = flag('--rounds', 7);
+const childDist = args.includes('--child') ? args[args.indexOf('--child') + 1] : null;
+const [distA, distB] = args.filter((a, i) => !a.startsWith('--') && !(i > 0 && ['--rounds', '--child'].includes(args[i - 1])));
+if (!childDist && (!distA || !distB)) throw new Error('usage: compareBuilds.ts OLD_DIST NEW_DIST [--rounds N] [--fits] [--more]');
+const rounds = flag('--rounds', 5);
 const withFits = args.includes('--fits');
 const withMore = args.includes('--more');
 
@@ -134,30 +140,62 @@ function time(fn: () => number, reps: number, batch: number): number {
 }
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
-const A = await load(distA);
-const B = await load(distB);
-const cases: { name: string; a: () => number; b: () => number; reps: number; batch: number }[] = families.map((s) => ({ name: JSON.stringify(s), a: densityCase(A, s), b: densityCase(B, s), reps: 7, batch: 10 }));
-if (withMore) for (const m of more) cases.push({ name: m[0], a: moreCase(A, m), b: moreCase(B, m), reps: 5, batch: 3 });
-if (withFits) {
-  for (const [name, loss] of [
-    ['fit power', { family: 'power', exponent: 1.6 }],
-    ['fit squared', { family: 'squared' }],
-  ] as const) cases.push({ name, a: fitCase(A, name, loss), b: fitCase(B, name, loss), reps: 1, batch: 1 });
+interface CaseTiming {
+  name: string;
+  ms: number;
+  logLik: number;
 }
-console.log(`A = ${distA}\nB = ${distB}\n${rounds} interleaved rounds; CPU time per call, medians over rounds\n`);
-console.log(`${'case'.padEnd(48)} ${'A'.padStart(10)} ${'B'.padStart(10)}  B/A    log-lik A − B`);
-for (const c of cases) {
-  for (let i = 0; i < 20 && c.reps > 1; i++) (c.a(), c.b()); // warm both past optimisation
-  const ta: number[] = [];
-  const tb: number[] = [];
-  const ratio: number[] = [];
-  for (let k = 0; k < rounds; k++) {
-    const x = time(c.a, c.reps, c.batch);
-    const y = time(c.b, c.reps, c.batch);
-    ta.push(x);
-    tb.push(y);
-    ratio.push(y / x);
+
+/** Child: every case on one build, each warmed up, as JSON on stdout. */
+async function timeOneBuild(dist: string): Promise<CaseTiming[]> {
+  const b = await load(dist);
+  const cases: { name: string; fn: () => number; reps: number; batch: number }[] = families.map((s) => ({ name: JSON.stringify(s), fn: densityCase(b, s), reps: 7, batch: 10 }));
+  if (withMore) for (const m of more) cases.push({ name: m[0], fn: moreCase(b, m), reps: 5, batch: 3 });
+  if (withFits) {
+    for (const [name, loss] of [
+      ['fit power', { family: 'power', exponent: 1.6 }],
+      ['fit squared', { family: 'squared' }],
+    ] as const) cases.push({ name, fn: fitCase(b, name, loss), reps: 1, batch: 1 });
   }
+  // Every case warmed up before any is timed: the cases share most of the code, and
+  // timing the first one while later ones still trigger compilation skews it.
+  for (const c of cases) for (let i = 0; i < (c.reps > 1 ? 30 : 1); i++) c.fn();
+  return cases.map((c) => ({ name: c.name, ms: time(c.fn, c.reps, c.batch), logLik: c.fn() }));
+}
+
+function runChild(dist: string): CaseTiming[] {
+  const self = fileURLToPath(import.meta.url);
+  const extra = [withFits ? '--fits' : '', withMore ? '--more' : ''].filter(Boolean);
+  const out = spawnSync(process.execPath, [...process.execArgv, self, '--child', dist, ...extra], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  if (out.status !== 0) throw new Error(`timing ${dist} failed:\n${out.stderr}`);
+  return JSON.parse(out.stdout.trim().split('\n').pop()!);
+}
+
+if (childDist) {
+  console.log(JSON.stringify(await timeOneBuild(childDist)));
+} else {
+  console.log(`A = ${distA}\nB = ${distB}\n${rounds} rounds of one process per build (A, B then B, A); CPU time per call, medians over rounds\n`);
+  const ta = new Map<string, number[]>();
+  const tb = new Map<string, number[]>();
+  const ll = new Map<string, [number, number]>();
+  for (let k = 0; k < rounds; k++) {
+    const order = k % 2 === 0 ? [distA, distB] : [distB, distA];
+    const got = new Map(order.map((d) => [d, runChild(d)]));
+    for (const [dist, into] of [[distA, ta], [distB, tb]] as const) {
+      for (const c of got.get(dist)!) {
+        into.set(c.name, [...(into.get(c.name) ?? []), c.ms]);
+        const pair = ll.get(c.name) ?? [NaN, NaN];
+        pair[dist === distA ? 0 : 1] = c.logLik;
+        ll.set(c.name, pair);
+      }
+    }
+  }
+  console.log(`${'case'.padEnd(48)} ${'A'.padStart(10)} ${'B'.padStart(10)}  B/A    log-lik A − B`);
   const fmt = (ms: number) => (ms >= 10 ? `${(ms / 1000).toFixed(3)} s` : `${(ms * 1000).toFixed(0)} µs`);
-  console.log(`${c.name.padEnd(48)} ${fmt(median(ta)).padStart(10)} ${fmt(median(tb)).padStart(10)}  ${median(ratio).toFixed(3)}  ${(c.a() - c.b()).toExponential(2)}`);
+  for (const [name, as] of ta) {
+    const bs = tb.get(name)!;
+    const ratio = as.map((a, i) => bs[i] / a);
+    const [la, lb] = ll.get(name)!;
+    console.log(`${name.padEnd(48)} ${fmt(median(as)).padStart(10)} ${fmt(median(bs)).padStart(10)}  ${median(ratio).toFixed(3)}  ${(la - lb).toExponential(2)}`);
+  }
 }
