@@ -28,6 +28,8 @@ export const NODES_PER_PANEL = 10;
 const LOG_CUTOFF = EXP_TABLE_MAX;
 /** Half-width, in noise sds, of the node window evaluated around the likelihood peak. */
 const WINDOW_U = 14;
+/** Half-width, in noise sds, of the first window of a unimodal posterior (grown by panels as needed). */
+const START_U = 7;
 const MAX_NODES = 20000;
 
 export interface GridSetup {
@@ -216,10 +218,17 @@ export class GridPosterior {
     const J = this.nNodes;
     this.measurement = m;
     this.exactAvailable = true;
-    // With a log-concave prior (or a unimodal posterior in u) the posterior sits
-    // within a few noise sds of the likelihood peak: evaluate only there, and
-    // fall back to every node when the window's edges still carry mass.
-    if (this.prior.logConcave || this.unimodal) {
+    if (this.unimodal) {
+      const uPeak = this.warp.toU(this.noise.stimulusAt(m));
+      if (Number.isFinite(uPeak)) {
+        this.setUnimodal(m, uPeak);
+        return;
+      }
+    }
+    // With a log-concave prior the posterior sits within a few noise sds of
+    // the likelihood peak: evaluate only there, and fall back to every node
+    // when the window's edges still carry mass.
+    if (this.prior.logConcave) {
       const uPeak = this.warp.toU(this.noise.stimulusAt(m));
       if (Number.isFinite(uPeak)) {
         // Whole panels: normalise works panel by panel and must never read a
@@ -238,6 +247,41 @@ export class GridPosterior {
       }
     }
     this.normalise(this.evaluate(m, 0, J - 1), 0, J - 1);
+  }
+
+  /**
+   * A posterior log-concave in u has log densities at the nodes that rise to
+   * one peak and fall: start from whole panels within START_U of the
+   * likelihood peak and add a panel at an end while that end's node is still
+   * within LOG_CUTOFF of the largest value seen. When neither end qualifies,
+   * every node beyond lies lower still, so the window holds the same peak and
+   * the same nodes above the cutoff as an evaluation of every node would.
+   */
+  private setUnimodal(m: number, uPeak: number): void {
+    const n = NODES_PER_PANEL;
+    const J = this.nNodes;
+    let a = Math.min(J - n, Math.floor(this.nodeAtOrAbove(uPeak - START_U) / n) * n);
+    let b = Math.min(J - 1, Math.max(a + n - 1, Math.ceil(this.nodeAtOrAbove(uPeak + START_U) / n) * n - 1));
+    let max = this.evaluate(m, a, b);
+    const logVal = this.logVal;
+    for (;;) {
+      const thr = max - LOG_CUTOFF;
+      let grown = false;
+      if (a > 0 && !(logVal[a] < thr)) {
+        const v = this.evaluate(m, a - n, a - 1);
+        if (v > max) max = v;
+        a -= n;
+        grown = true;
+      }
+      if (b < J - 1 && !(logVal[b] < thr)) {
+        const v = this.evaluate(m, b + 1, b + n);
+        if (v > max) max = v;
+        b += n;
+        grown = true;
+      }
+      if (!grown) break;
+    }
+    this.normalise(max, a, b);
   }
 
   private evaluate(m: number, a: number, b: number): number {
@@ -285,15 +329,12 @@ export class GridPosterior {
   /** Normalise the node log-densities held in logVal[a..b] (in u). */
   private normalise(max: number, a = 0, b = this.nNodes - 1): void {
     const thr = max - LOG_CUTOFF;
-    let first = -1;
-    let last = -1;
-    for (let j = a; j <= b; j++) {
-      if (this.logVal[j] >= thr) {
-        if (first < 0) first = j;
-        last = j;
-      }
-    }
-    if (first < 0) throw new RangeError('posterior has no mass on the grid');
+    // The first and last nodes above the cutoff, scanning in from each end.
+    let first = a;
+    while (first <= b && !(this.logVal[first] >= thr)) first++;
+    if (first > b) throw new RangeError('posterior has no mass on the grid');
+    let last = b;
+    while (!(this.logVal[last] >= thr)) last--;
     const n = NODES_PER_PANEL;
     // Whole panels, so the Legendre transform of a panel sees all its nodes.
     first = Math.floor(first / n) * n;
@@ -310,10 +351,6 @@ export class GridPosterior {
       z += mj;
     }
     const inv = 1 / z;
-    for (let j = first; j <= last; j++) {
-      this.f[j] *= inv;
-      this.mass[j] *= inv;
-    }
     const pf = first / n;
     const pl = (last + 1) / n - 1;
     let acc = 0;
@@ -321,7 +358,12 @@ export class GridPosterior {
       this.cum[p] = acc;
       let s = 0;
       const base = p * n;
-      for (let i = 0; i < n; i++) s += this.mass[base + i];
+      for (let j = base; j < base + n; j++) {
+        this.f[j] *= inv;
+        const mj = this.mass[j] * inv;
+        this.mass[j] = mj;
+        s += mj;
+      }
       acc += s;
     }
     this.cum[pl + 1] = acc;
