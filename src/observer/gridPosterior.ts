@@ -58,6 +58,8 @@ export class GridPosterior {
   /** Gauss–Legendre weight in u (half-width included). */
   readonly quadWeight: Float64Array;
   private readonly logBase: Float64Array;
+  /** dx/du at the nodes. */
+  private readonly jac: Float64Array;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;
   private readonly logSd: Float64Array;
@@ -83,6 +85,8 @@ export class GridPosterior {
   private readonly prior: Distribution;
   private readonly noise: SensoryNoise;
   private measurement = NaN;
+  private exactSd = NaN;
+  private exactLogSd = NaN;
   /** False after convolveGaussian: the exact density is then no longer prior × likelihood. */
   exactAvailable = false;
   /**
@@ -163,7 +167,7 @@ export class GridPosterior {
     // evaluation, and each typed array of this size gets its own off-heap
     // buffer, whose allocation and collection cost more than filling it
     // (measured: 13 separate arrays made the constructor about 2× slower).
-    const store = new Float64Array(11 * J + this.nPanels + 1);
+    const store = new Float64Array(12 * J + this.nPanels + 1);
     const view = (i: number) => store.subarray(i * J, (i + 1) * J);
     this.u = view(0);
     this.x = view(1);
@@ -176,7 +180,8 @@ export class GridPosterior {
     this.f = view(8);
     this.mass = view(9);
     this.coef = view(10);
-    this.cum = store.subarray(11 * J);
+    this.jac = view(11);
+    this.cum = store.subarray(12 * J);
     this.coefStamp = new Int32Array(this.nPanels).fill(-1);
     this.transform = legendreTransform(n);
     const gl = gaussLegendre(n);
@@ -196,6 +201,7 @@ export class GridPosterior {
         this.x[j] = xj;
         this.quadWeight[j] = this.panelHalf[p] * gl.weights[i];
         const jac = warp.dxdu(uj);
+        this.jac[j] = jac;
         if (jac !== lastJac) {
           lastJac = jac;
           lastLogJac = Math.log(jac);
@@ -316,7 +322,29 @@ export class GridPosterior {
     if (lp === -Infinity) return -Infinity;
     const sd = this.noise.sdAt(x);
     const d = (this.measurement - this.noise.center(x)) / sd;
-    return lp - 0.5 * d * d - Math.log(sd);
+    // Root finders call this a dozen times per estimate; with constant noise
+    // the logarithm of the sd is the same every time.
+    if (sd !== this.exactSd) {
+      this.exactSd = sd;
+      this.exactLogSd = Math.log(sd);
+    }
+    return lp - 0.5 * d * d - this.exactLogSd;
+  }
+
+  /** Index of the node where the density in x (not in u) is highest. */
+  modeNodeX(): number {
+    let j = this.first;
+    let best = -Infinity;
+    const f = this.f;
+    const jac = this.jac;
+    for (let i = this.first; i <= this.last; i++) {
+      const fx = f[i] / jac[i];
+      if (fx > best) {
+        best = fx;
+        j = i;
+      }
+    }
+    return j;
   }
 
   /** Index of the node with the highest density. */
