@@ -22,6 +22,7 @@ import { segmentIndex } from '../numerics/search.js';
  * against 69 from a 1-sd base and 95 with three-point slopes).
  */
 export const CURVE_STEP = 2;
+const EMPTY_F64: Float64Array<ArrayBufferLike> = new Float64Array(0);
 /** Step in v for curves given in closed form (log-linear), which are not refined. */
 const CLOSED_FORM_STEP = 0.25;
 
@@ -78,10 +79,15 @@ export class EstimateCurve {
     }
     let brk: number[] = new Array(vs.length).fill(0);
     if (!closed) [vs, xs, brk] = closeGaps(...this.refine(vs, xs, at, [xLo, xHi]));
-    this.v = Float64Array.from(vs);
-    this.xh = Float64Array.from(xs);
-    this.breakAfter = Uint8Array.from(brk);
-    this.slope = new Float64Array(this.v.length);
+    const n = vs.length;
+    const buffer = new ArrayBuffer(8 * 3 * n + n);
+    this.v = new Float64Array(buffer, 0, n);
+    this.xh = new Float64Array(buffer, 8 * n, n);
+    this.slope = new Float64Array(buffer, 16 * n, n);
+    this.breakAfter = new Uint8Array(buffer, 24 * n, n);
+    this.v.set(vs);
+    this.xh.set(xs);
+    this.breakAfter.set(brk);
     computeSlopes(this.v, this.xh, this.breakAfter, this.slope);
   }
 
@@ -124,18 +130,19 @@ export class EstimateCurve {
     // Scratch reused across rounds (typed arrays of this size live off the heap,
     // and a fresh set per round cost more than the bookkeeping they serve).
     let cap = 0;
-    let v = new Float64Array(0);
-    let x = new Float64Array(0);
+    let v = EMPTY_F64;
+    let x = EMPTY_F64;
+    let sl = EMPTY_F64;
     let b = new Uint8Array(0);
-    let sl = new Float64Array(0);
     for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
       const len = vs.length;
       if (len > cap) {
-        cap = Math.max(2 * cap, len + 16);
-        v = new Float64Array(cap);
-        x = new Float64Array(cap);
-        b = new Uint8Array(cap);
-        sl = new Float64Array(cap);
+        cap = Math.max(2 * cap, 2 * len + 16);
+        const buffer = new ArrayBuffer(8 * 3 * cap + cap);
+        v = new Float64Array(buffer, 0, cap);
+        x = new Float64Array(buffer, 8 * cap, cap);
+        sl = new Float64Array(buffer, 16 * cap, cap);
+        b = new Uint8Array(buffer, 24 * cap, cap);
       }
       for (let i = 0; i < len; i++) {
         v[i] = vs[i];

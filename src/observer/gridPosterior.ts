@@ -160,15 +160,19 @@ export class GridPosterior {
     if (this.nNodes > MAX_NODES) {
       throw new RangeError(`posterior grid would need ${this.nNodes} nodes (limit ${MAX_NODES}): the prior is far narrower than the range of measurements`);
     }
-    this.panelStart = Float64Array.from(starts);
-    this.panelHalf = Float64Array.from(halves);
     const J = this.nNodes;
-    // One backing store for every per-node array: a grid is built on every
+    const P = this.nPanels;
+    // One backing buffer for every array of the grid: a grid is built on every
     // evaluation, and each typed array of this size gets its own off-heap
     // buffer, whose allocation and collection cost more than filling it
     // (measured: 13 separate arrays made the constructor about 2× slower).
-    const store = new Float64Array(12 * J + this.nPanels + 1);
+    const buffer = new ArrayBuffer(8 * (12 * J + 3 * P + 1) + 4 * P);
+    const store = new Float64Array(buffer, 0, 12 * J + 3 * P + 1);
     const view = (i: number) => store.subarray(i * J, (i + 1) * J);
+    this.panelStart = store.subarray(12 * J + P + 1, 12 * J + 2 * P + 1);
+    this.panelHalf = store.subarray(12 * J + 2 * P + 1);
+    this.panelStart.set(starts);
+    this.panelHalf.set(halves);
     this.u = view(0);
     this.x = view(1);
     this.quadWeight = view(2);
@@ -181,8 +185,8 @@ export class GridPosterior {
     this.mass = view(9);
     this.coef = view(10);
     this.jac = view(11);
-    this.cum = store.subarray(12 * J);
-    this.coefStamp = new Int32Array(this.nPanels).fill(-1);
+    this.cum = store.subarray(12 * J, 12 * J + P + 1);
+    this.coefStamp = new Int32Array(buffer, 8 * (12 * J + 3 * P + 1), P).fill(-1);
     this.transform = legendreTransform(n);
     const gl = gaussLegendre(n);
     // Constant noise and linear warps repeat the same sd and dx/du at every
