@@ -309,6 +309,11 @@ export class GridPosterior {
   private nodeAtOrAbove(target: number): number {
     let lo = 0;
     let hi = this.nNodes;
+    // Narrow the bisection to the panel holding the target and its neighbours
+    // (panels are uniform but for clipped ends; the answer is the same).
+    const p = this.panelOf(target);
+    if (p > 0 && this.u[(p - 1) * NODES_PER_PANEL] < target) lo = (p - 1) * NODES_PER_PANEL;
+    if (p + 2 < this.nPanels && this.u[(p + 2) * NODES_PER_PANEL] >= target) hi = (p + 2) * NODES_PER_PANEL;
     while (lo < hi) {
       const mid = (lo + hi) >> 1;
       if (this.u[mid] < target) lo = mid + 1;

@@ -90,6 +90,8 @@ const EMPTY_I32 = new Int32Array(0);
 export class MeasurementGrid {
   /** The lattice step of the nodes (the finer rule's step while two are blended). */
   readonly step: number;
+  /** Nodes exactly v[0] + k·step (one piece, no breaks), so a node's index is arithmetic. */
+  private readonly uniform: boolean;
   readonly n: number;
   readonly v: Float64Array;
   /** Measurement m(v), dm/dv and (d²m/dv²)/(dm/dv) at each node. */
@@ -353,15 +355,28 @@ export class MeasurementGrid {
     for (let t = 0; t < ns; t++) for (let k = this.subLeft[t]; k <= this.subRight[t]; k++) irr[k + 1] = 1;
     for (let k = 0; k < n; k++) irr[k + 1] += irr[k];
     this.irregular = irr;
+    let uniform = n > 1;
+    for (let k = 1; k < n && uniform; k++) uniform = v[k] === v[0] + k * h;
+    this.uniform = uniform;
   }
 
-  /** First node of the segment holding v (clamped), by bisection. */
+  /** First node of the segment holding v (clamped): by the lattice arithmetic on a uniform grid, else by bisection. */
   nodeBelow(v: number): number {
     const a = this.v;
     let lo = 0;
     let hi = this.n - 1;
     if (!(v > a[0])) return 0;
     if (v >= a[hi]) return hi;
+    if (this.uniform) {
+      // The guess can be off by one where v is within rounding of a node; the
+      // checks make it the same segment bisection finds.
+      let k = Math.floor((v - a[0]) / this.step);
+      if (k > hi - 1) k = hi - 1;
+      if (k < 0) k = 0;
+      while (k > 0 && a[k] > v) k--;
+      while (k < hi - 1 && a[k + 1] <= v) k++;
+      return k;
+    }
     while (hi - lo > 1) {
       const mid = (lo + hi) >> 1;
       if (a[mid] <= v) lo = mid;
