@@ -33,6 +33,8 @@ export function motorReach(obs: Observer): number {
 
 /** Pointwise Bayes estimate at measurement m (used by the curve and by the sampler). */
 export function estimateAt(obs: Observer, post: GridPosterior, m: number, hint: number): number {
+  // The squared loss needs only the mean: skip storing the normalised posterior.
+  if (obs.loss.family === 'squared' && !obs.motorAware) return post.meanAt(m);
   post.setMeasurement(m);
   if (obs.motorAware) post.convolveGaussian(obs.motorSd);
   return obs.loss.estimate(post, hint);
