@@ -58,8 +58,9 @@ export class GridPosterior {
   /** Gauss–Legendre weight in u (half-width included). */
   readonly quadWeight: Float64Array;
   private readonly logBase: Float64Array;
-  /** dx/du at the nodes. */
+  /** dx/du at the nodes, and its log. */
   private readonly jac: Float64Array;
+  private readonly logJac: Float64Array;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;
   private readonly logSd: Float64Array;
@@ -166,11 +167,11 @@ export class GridPosterior {
     // evaluation, and each typed array of this size gets its own off-heap
     // buffer, whose allocation and collection cost more than filling it
     // (measured: 13 separate arrays made the constructor about 2× slower).
-    const buffer = new ArrayBuffer(8 * (12 * J + 3 * P + 1) + 4 * P);
-    const store = new Float64Array(buffer, 0, 12 * J + 3 * P + 1);
+    const buffer = new ArrayBuffer(8 * (13 * J + 3 * P + 1) + 4 * P);
+    const store = new Float64Array(buffer, 0, 13 * J + 3 * P + 1);
     const view = (i: number) => store.subarray(i * J, (i + 1) * J);
-    this.panelStart = store.subarray(12 * J + P + 1, 12 * J + 2 * P + 1);
-    this.panelHalf = store.subarray(12 * J + 2 * P + 1);
+    this.panelStart = store.subarray(13 * J + P + 1, 13 * J + 2 * P + 1);
+    this.panelHalf = store.subarray(13 * J + 2 * P + 1);
     this.panelStart.set(starts);
     this.panelHalf.set(halves);
     this.u = view(0);
@@ -185,8 +186,9 @@ export class GridPosterior {
     this.mass = view(9);
     this.coef = view(10);
     this.jac = view(11);
-    this.cum = store.subarray(12 * J, 12 * J + P + 1);
-    this.coefStamp = new Int32Array(buffer, 8 * (12 * J + 3 * P + 1), P).fill(-1);
+    this.logJac = view(12);
+    this.cum = store.subarray(13 * J, 13 * J + P + 1);
+    this.coefStamp = new Int32Array(buffer, 8 * (13 * J + 3 * P + 1), P).fill(-1);
     this.transform = legendreTransform(n);
     const gl = gaussLegendre(n);
     // Constant noise and linear warps repeat the same sd and dx/du at every
@@ -210,6 +212,7 @@ export class GridPosterior {
           lastJac = jac;
           lastLogJac = Math.log(jac);
         }
+        this.logJac[j] = lastLogJac;
         this.logBase[j] = prior.logPdf(xj) + lastLogJac;
         this.center[j] = noise.center(xj);
         const sd = noise.sdAt(xj);
@@ -225,9 +228,36 @@ export class GridPosterior {
 
   /** Condition on measurement m (in the noise's measurement space). */
   setMeasurement(m: number): void {
+    this.pending = false;
     const max = this.evaluateWindow(m);
     this.normalise(max, this.winA, this.winB);
   }
+
+  /**
+   * Condition on m, but leave the normalised density, the masses and the panel
+   * sums to be filled by the first method that needs them: an estimator that
+   * only brackets a root of the exact density near the mode (hit-or-miss on a
+   * unimodal posterior) never pays for them. Until then the fields f, mass
+   * and cum are stale: code that reads them directly must use setMeasurement.
+   */
+  setMeasurementDeferred(m: number): void {
+    const max = this.evaluateWindow(m);
+    const [first, last] = this.massWindow(max, this.winA, this.winB);
+    this.first = first;
+    this.last = last;
+    this.pendingMax = max;
+    this.pending = true;
+    this.stamp++;
+  }
+
+  /** Fill what setMeasurementDeferred left (the same values setMeasurement gives). */
+  private settle(): void {
+    this.pending = false;
+    this.normalise(this.pendingMax, this.first, this.last);
+  }
+
+  private pending = false;
+  private pendingMax = 0;
 
   /**
    * The posterior mean for measurement m, without storing the normalised
@@ -238,6 +268,7 @@ export class GridPosterior {
    * posterior set: call setMeasurement before anything else.
    */
   meanAt(m: number): number {
+    this.pending = false;
     const max = this.evaluateWindow(m);
     const [first, last] = this.massWindow(max, this.winA, this.winB);
     const thr = max - LOG_CUTOFF;
@@ -382,6 +413,17 @@ export class GridPosterior {
   modeNodeX(): number {
     let j = this.first;
     let best = -Infinity;
+    if (this.pending) {
+      // Not normalised yet: the same comparison in logs.
+      for (let i = this.first; i <= this.last; i++) {
+        const lx = this.logVal[i] - this.logJac[i];
+        if (lx > best) {
+          best = lx;
+          j = i;
+        }
+      }
+      return j;
+    }
     const f = this.f;
     const jac = this.jac;
     for (let i = this.first; i <= this.last; i++) {
@@ -396,6 +438,7 @@ export class GridPosterior {
 
   /** Index of the node with the highest density. */
   peakNode(): number {
+    if (this.pending) this.settle();
     let best = this.first;
     for (let j = this.first; j <= this.last; j++) if (this.f[j] > this.f[best]) best = j;
     return best;
@@ -459,6 +502,7 @@ export class GridPosterior {
   }
 
   private coefficients(p: number): number {
+    if (this.pending) this.settle();
     const n = NODES_PER_PANEL;
     const off = p * n;
     if (this.coefStamp[p] === this.stamp) return off;
@@ -484,6 +528,7 @@ export class GridPosterior {
   }
 
   mean(): number {
+    if (this.pending) this.settle();
     let s = 0;
     for (let j = this.first; j <= this.last; j++) s += this.mass[j] * this.x[j];
     return s;
@@ -491,6 +536,7 @@ export class GridPosterior {
 
   /** Posterior variance, about `mean` (the posterior mean unless given). */
   variance(mean = this.mean()): number {
+    if (this.pending) this.settle();
     let v = 0;
     for (let j = this.first; j <= this.last; j++) v += this.mass[j] * (this.x[j] - mean) ** 2;
     return v;
@@ -498,6 +544,7 @@ export class GridPosterior {
 
   /** Posterior cdf at u (warped coordinate). */
   cdfU(u: number): number {
+    if (this.pending) this.settle();
     const pf = this.firstPanel;
     const pl = this.lastPanel;
     if (!(u > this.panelStart[pf])) return 0;
@@ -565,6 +612,7 @@ export class GridPosterior {
    * panel; it changes only the path, not the root (to rounding).
    */
   quantile(tau: number, hint = NaN): number {
+    if (this.pending) this.settle();
     const n = NODES_PER_PANEL;
     let lo = this.firstPanel;
     let hi = this.lastPanel;
@@ -624,6 +672,7 @@ export class GridPosterior {
    */
   convolveGaussian(sd: number): void {
     if (!(sd > 0)) return;
+    if (this.pending) this.settle();
     const J = this.nNodes;
     const postSd = Math.sqrt(this.variance());
     const out = this.logVal;
