@@ -6,8 +6,12 @@
  */
 import { gaussLegendre } from './gaussRules.js';
 
-/** Matrix T[k*n + i] such that coefficient a_k = Σ_i T[k*n+i] f(t_i). */
+const transformCache = new Map<number, Float64Array>();
+
+/** Matrix T[k*n + i] such that coefficient a_k = Σ_i T[k*n+i] f(t_i). Cached per size and shared: do not modify. */
 export function legendreTransform(n: number): Float64Array {
+  const cached = transformCache.get(n);
+  if (cached) return cached;
   const { nodes, weights } = gaussLegendre(n);
   const t = new Float64Array(n * n);
   for (let i = 0; i < n; i++) {
@@ -25,6 +29,7 @@ export function legendreTransform(n: number): Float64Array {
       t[k * n + i] = ((2 * k + 1) / 2) * weights[i] * val;
     }
   }
+  transformCache.set(n, t);
   return t;
 }
 

@@ -22,6 +22,7 @@ import { segmentIndex } from '../numerics/search.js';
  * against 69 from a 1-sd base and 95 with three-point slopes).
  */
 export const CURVE_STEP = 2;
+const EMPTY_F64: Float64Array<ArrayBufferLike> = new Float64Array(0);
 /** Step in v for curves given in closed form (log-linear), which are not refined. */
 const CLOSED_FORM_STEP = 0.25;
 
@@ -32,6 +33,16 @@ export function motorReach(obs: Observer): number {
 
 /** Pointwise Bayes estimate at measurement m (used by the curve and by the sampler). */
 export function estimateAt(obs: Observer, post: GridPosterior, m: number, hint: number): number {
+  if (!obs.motorAware) {
+    // The squared loss needs only the mean: skip storing the normalised posterior.
+    if (obs.loss.family === 'squared') return post.meanAt(m);
+    // Hit-or-miss on a unimodal posterior brackets a root of the exact density
+    // near the mode and usually needs no normalised posterior at all.
+    if (obs.loss.family === 'hit-or-miss' && post.unimodal) {
+      post.setMeasurementDeferred(m);
+      return obs.loss.estimate(post, hint);
+    }
+  }
   post.setMeasurement(m);
   if (obs.motorAware) post.convolveGaussian(obs.motorSd);
   return obs.loss.estimate(post, hint);
@@ -78,10 +89,15 @@ export class EstimateCurve {
     }
     let brk: number[] = new Array(vs.length).fill(0);
     if (!closed) [vs, xs, brk] = closeGaps(...this.refine(vs, xs, at, [xLo, xHi]));
-    this.v = Float64Array.from(vs);
-    this.xh = Float64Array.from(xs);
-    this.breakAfter = Uint8Array.from(brk);
-    this.slope = new Float64Array(this.v.length);
+    const n = vs.length;
+    const buffer = new ArrayBuffer(8 * 3 * n + n);
+    this.v = new Float64Array(buffer, 0, n);
+    this.xh = new Float64Array(buffer, 8 * n, n);
+    this.slope = new Float64Array(buffer, 16 * n, n);
+    this.breakAfter = new Uint8Array(buffer, 24 * n, n);
+    this.v.set(vs);
+    this.xh.set(xs);
+    this.breakAfter.set(brk);
     computeSlopes(this.v, this.xh, this.breakAfter, this.slope);
   }
 
@@ -98,44 +114,75 @@ export class EstimateCurve {
    * within 5 sensory sds? Elsewhere p(m | x) < 4e-6 of its peak and the
    * interpolation error there cannot reach the likelihood.
    */
-  private plausible(va: number, vb: number, [xLo, xHi]: readonly [number, number]): boolean {
-    const n = this.noise;
-    for (const v of [va, vb]) {
-      const m = this.warpM.fromU(v);
-      const xs = [xLo, xHi, Math.min(xHi, Math.max(xLo, n.stimulusAt(m)))];
-      for (const x of xs) if (Math.abs(m - n.center(x)) < 5 * n.sdAt(x)) return true;
-    }
+  private plausible(va: number, vb: number, xLo: number, xHi: number): boolean {
+    if (this.plausibleEnd(va, xLo, xHi) || this.plausibleEnd(vb, xLo, xHi)) return true;
     // A segment can also straddle the plausible band without its ends being in it.
+    const n = this.noise;
     const mA = this.warpM.fromU(va);
     const mB = this.warpM.fromU(vb);
     return Math.min(mA, mB) < n.center(xLo) && Math.max(mA, mB) > n.center(xHi);
   }
 
-  private refine(vs: number[], xs: number[], at: (v: number, hint: number) => number, xLoHi: readonly [number, number]): [number[], number[], number[]] {
+  private plausibleEnd(v: number, xLo: number, xHi: number): boolean {
+    const n = this.noise;
+    const m = this.warpM.fromU(v);
+    const xc = Math.min(xHi, Math.max(xLo, n.stimulusAt(m)));
+    return Math.abs(m - n.center(xLo)) < 5 * n.sdAt(xLo) || Math.abs(m - n.center(xHi)) < 5 * n.sdAt(xHi) || Math.abs(m - n.center(xc)) < 5 * n.sdAt(xc);
+  }
+
+  private refine(vs: number[], xs: number[], at: (v: number, hint: number) => number, [xLo, xHi]: readonly [number, number]): [number[], number[], number[]] {
     // Never below the estimate's own numerical noise (~1e-8 of its magnitude).
-    const tol = Math.max(REFINE_TOL * this.obs.motorSd, 1e-7 * Math.max(...xs.map(Math.abs)));
+    let big = 0;
+    for (const x of xs) if (Math.abs(x) > big) big = Math.abs(x);
+    const tol = Math.max(REFINE_TOL * this.obs.motorSd, 1e-7 * big);
     let brk = new Array(vs.length).fill(0);
     let check = new Array(vs.length).fill(1); // check[i]: segment i still to be tested
+    // Scratch reused across rounds (typed arrays of this size live off the heap,
+    // and a fresh set per round cost more than the bookkeeping they serve).
+    let cap = 0;
+    let v = EMPTY_F64;
+    let x = EMPTY_F64;
+    let sl = EMPTY_F64;
+    let b = new Uint8Array(0);
     for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
-      const v = Float64Array.from(vs);
-      const x = Float64Array.from(xs);
-      const b = Uint8Array.from(brk);
-      const sl = new Float64Array(v.length);
-      computeSlopes(v, x, b, sl);
+      const len = vs.length;
+      if (len > cap) {
+        cap = Math.max(2 * cap, 2 * len + 16);
+        const buffer = new ArrayBuffer(8 * 3 * cap + cap);
+        v = new Float64Array(buffer, 0, cap);
+        x = new Float64Array(buffer, 8 * cap, cap);
+        sl = new Float64Array(buffer, 16 * cap, cap);
+        b = new Uint8Array(buffer, 24 * cap, cap);
+      }
+      for (let i = 0; i < len; i++) {
+        v[i] = vs[i];
+        x[i] = xs[i];
+        b[i] = brk[i];
+      }
+      // Slopes only where a segment is checked (the same five-point rule as
+      // computeSlopes, which needs them everywhere).
+      for (let i = 0; i + 1 < len; i++) {
+        if (!check[i] || brk[i] || !this.plausible(vs[i], vs[i + 1], xLo, xHi)) {
+          check[i] = 0;
+          continue;
+        }
+        if (i === 0 || !check[i - 1]) sl[i] = nodeSlope(v, x, b, len, i);
+        sl[i + 1] = nodeSlope(v, x, b, len, i + 1);
+      }
       const nv: number[] = [];
       const nx: number[] = [];
       const nb: number[] = [];
       const nc: number[] = [];
       let any = false;
-      for (let i = 0; i < vs.length; i++) {
+      for (let i = 0; i < len; i++) {
         nv.push(vs[i]);
         nx.push(xs[i]);
-        if (i === vs.length - 1) {
+        if (i === len - 1) {
           nb.push(0);
           nc.push(0);
           break;
         }
-        if (!check[i] || brk[i] || !this.plausible(vs[i], vs[i + 1], xLoHi)) {
+        if (!check[i]) {
           nb.push(brk[i]);
           nc.push(0);
           continue;
@@ -259,20 +306,22 @@ export function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Arra
  */
 function computeSlopes(v: Float64Array, xh: Float64Array, breakAfter: Uint8Array, slope: Float64Array): void {
   const n = v.length;
-  const joined = (k: number) => k >= 0 && k < n - 1 && !breakAfter[k] && v[k + 1] > v[k];
-  for (let i = 0; i < n; i++) {
-    let lo = i;
-    let hi = i;
-    // Grow the stencil by one node at a time, alternating sides, up to five.
-    while (hi - lo < 4) {
-      const canL = joined(lo - 1);
-      const canR = joined(hi);
-      if (!canL && !canR) break;
-      if (canL && (!canR || i - lo <= hi - i)) lo--;
-      else hi++;
-    }
-    slope[i] = hi > lo ? lagrangeDerivative(v, xh, lo, hi, i) : 0;
+  for (let i = 0; i < n; i++) slope[i] = nodeSlope(v, xh, breakAfter, n, i);
+}
+
+/** The slope at node i of the first n nodes (see computeSlopes). */
+function nodeSlope(v: Float64Array, xh: Float64Array, breakAfter: Uint8Array, n: number, i: number): number {
+  let lo = i;
+  let hi = i;
+  // Grow the stencil by one node at a time, alternating sides, up to five.
+  while (hi - lo < 4) {
+    const canL = lo - 1 >= 0 && !breakAfter[lo - 1] && v[lo] > v[lo - 1];
+    const canR = hi < n - 1 && !breakAfter[hi] && v[hi + 1] > v[hi];
+    if (!canL && !canR) break;
+    if (canL && (!canR || i - lo <= hi - i)) lo--;
+    else hi++;
   }
+  return hi > lo ? lagrangeDerivative(v, xh, lo, hi, i) : 0;
 }
 
 /** Derivative at v[i] of the polynomial through the nodes lo..hi (i among them). */

@@ -83,9 +83,15 @@ export const SENSORY_WINDOW = 8.5;
  */
 const SLOPE_WINDOW = 5;
 
+/** Shared empty arrays (nothing can be written to them). */
+const EMPTY_F64 = new Float64Array(0);
+const EMPTY_I32 = new Int32Array(0);
+
 export class MeasurementGrid {
   /** The lattice step of the nodes (the finer rule's step while two are blended). */
   readonly step: number;
+  /** Nodes exactly v[0] + k·step (one piece, no breaks), so a node's index is arithmetic. */
+  private readonly uniform: boolean;
   readonly n: number;
   readonly v: Float64Array;
   /** Measurement m(v), dm/dv and (d²m/dv²)/(dm/dv) at each node. */
@@ -120,10 +126,10 @@ export class MeasurementGrid {
   readonly subHi: Float64Array;
   readonly subFrom: Int32Array;
   readonly subTo: Int32Array;
-  subM = new Float64Array(0);
-  subX = new Float64Array(0);
+  subM = EMPTY_F64;
+  subX = EMPTY_F64;
   /** Rule weight × dm/dv of each sub-step point. */
-  subW = new Float64Array(0);
+  subW = EMPTY_F64;
   private subCount = 0;
   private readonly subQ: Float64Array;
   private readonly subShare: Float64Array;
@@ -165,13 +171,14 @@ export class MeasurementGrid {
     // One backing store for every per-node array (views into it): a grid is rebuilt on every
     // evaluation, and a dozen separate typed arrays cost more in allocation and collection than
     // the arithmetic that fills them (measured).
-    const store = new Float64Array(10 * cap);
+    const buffer = new ArrayBuffer(8 * 10 * cap + 4 * (2 * cap + 1));
+    const store = new Float64Array(buffer, 0, 10 * cap);
     const view = (i: number) => store.subarray(i * cap, (i + 1) * cap);
     const v = view(0);
     const xh = view(1);
     const slope = view(2);
     const lattice = view(3);
-    const ints = new Int32Array(2 * cap + 1);
+    const ints = new Int32Array(buffer, 8 * 10 * cap, 2 * cap + 1);
     const curveSeg = ints.subarray(0, cap);
     const pieceFirst = new Int32Array(pieceFrom.length);
     const pieceLast = new Int32Array(pieceFrom.length);
@@ -306,16 +313,17 @@ export class MeasurementGrid {
     this.scratch = view(9);
 
     // Sub-stepped segments sorted by left node (the two rules' lists interleave).
+    // (Most grids have none: they share empty arrays, which cost an allocation each otherwise.)
     const ns = subs.length / 6;
-    const order = new Int32Array(ns);
+    const order = ns > 0 ? new Int32Array(ns) : EMPTY_I32;
     for (let t = 0; t < ns; t++) order[t] = t;
     if (fineShare > 0 && fineShare < 1) order.sort((a, b) => subs[6 * a] - subs[6 * b]);
-    this.subLeft = new Int32Array(ns);
-    this.subRight = new Int32Array(ns);
-    this.subQ = new Float64Array(ns);
-    this.subShare = new Float64Array(ns);
-    this.subLo = new Float64Array(ns);
-    this.subHi = new Float64Array(ns);
+    this.subLeft = ns > 0 ? new Int32Array(ns) : EMPTY_I32;
+    this.subRight = ns > 0 ? new Int32Array(ns) : EMPTY_I32;
+    this.subQ = ns > 0 ? new Float64Array(ns) : EMPTY_F64;
+    this.subShare = ns > 0 ? new Float64Array(ns) : EMPTY_F64;
+    this.subLo = ns > 0 ? new Float64Array(ns) : EMPTY_F64;
+    this.subHi = ns > 0 ? new Float64Array(ns) : EMPTY_F64;
     for (let t = 0; t < ns; t++) {
       const o = 6 * order[t];
       this.subLeft[t] = subs[o];
@@ -325,8 +333,8 @@ export class MeasurementGrid {
       this.subLo[t] = subs[o + 4];
       this.subHi[t] = subs[o + 5];
     }
-    this.subFrom = new Int32Array(ns).fill(-1);
-    this.subTo = new Int32Array(ns);
+    this.subFrom = ns > 0 ? new Int32Array(ns).fill(-1) : EMPTY_I32;
+    this.subTo = ns > 0 ? new Int32Array(ns) : EMPTY_I32;
 
     // What a trial needs to choose its path: monotone runs of x̂ and the irregular nodes.
     const starts = [0];
@@ -341,21 +349,34 @@ export class MeasurementGrid {
     starts.push(Math.max(0, n - 1));
     this.runStart = Int32Array.from(starts);
     this.runUp = Uint8Array.from(ups);
-    const odd = new Uint8Array(n);
-    if (fineShare > 0) odd.fill(1);
-    for (let k = 0; k < n; k++) if (lattice[k] !== lattice[k] || emc[k] !== 0) odd[k] = 1;
-    for (let t = 0; t < ns; t++) for (let k = this.subLeft[t]; k <= this.subRight[t]; k++) odd[k] = 1;
-    this.irregular = ints.subarray(cap, cap + n + 1);
-    for (let k = 0; k < n; k++) this.irregular[k + 1] = this.irregular[k] + odd[k];
+    // Marks first (irregular[k + 1] = 1 for an irregular node k), then the prefix sum in place.
+    const irr = ints.subarray(cap, cap + n + 1);
+    for (let k = 0; k < n; k++) irr[k + 1] = fineShare > 0 || lattice[k] !== lattice[k] || emc[k] !== 0 ? 1 : 0;
+    for (let t = 0; t < ns; t++) for (let k = this.subLeft[t]; k <= this.subRight[t]; k++) irr[k + 1] = 1;
+    for (let k = 0; k < n; k++) irr[k + 1] += irr[k];
+    this.irregular = irr;
+    let uniform = n > 1;
+    for (let k = 1; k < n && uniform; k++) uniform = v[k] === v[0] + k * h;
+    this.uniform = uniform;
   }
 
-  /** First node of the segment holding v (clamped), by bisection. */
+  /** First node of the segment holding v (clamped): by the lattice arithmetic on a uniform grid, else by bisection. */
   nodeBelow(v: number): number {
     const a = this.v;
     let lo = 0;
     let hi = this.n - 1;
     if (!(v > a[0])) return 0;
     if (v >= a[hi]) return hi;
+    if (this.uniform) {
+      // The guess can be off by one where v is within rounding of a node; the
+      // checks make it the same segment bisection finds.
+      let k = Math.floor((v - a[0]) / this.step);
+      if (k > hi - 1) k = hi - 1;
+      if (k < 0) k = 0;
+      while (k > 0 && a[k] > v) k--;
+      while (k < hi - 1 && a[k + 1] <= v) k++;
+      return k;
+    }
     while (hi - lo > 1) {
       const mid = (lo + hi) >> 1;
       if (a[mid] <= v) lo = mid;

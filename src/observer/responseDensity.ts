@@ -34,6 +34,9 @@ const TINY = 1e-300;
 const MAX_RUNS = 8;
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 const INV_2PI = 1 / (2 * Math.PI);
+/** Shared empty scratch (replaced before anything is written). */
+const EMPTY_F64 = new Float64Array(0);
+const EMPTY_I32 = new Int32Array(0);
 
 type Kernel = 0 | 1 | 2; // 0: density at r, 1: P(response ≤ r), 2: P(response ≥ r)
 type TailKernel = 1 | 2;
@@ -49,9 +52,9 @@ export class ConditionResponse {
   readonly closed: ClosedFormEstimate | null;
   readonly grid: MeasurementGrid | null;
   /** Per-trial scratch: the combined exponent at each node and sub-step point, and the sub-stepped segments in reach. */
-  private exps: Float64Array<ArrayBufferLike> = new Float64Array(0);
-  private subExps = new Float64Array(0);
-  private touched = new Int32Array(0);
+  private exps: Float64Array<ArrayBufferLike> = EMPTY_F64;
+  private subExps: Float64Array<ArrayBufferLike> = EMPTY_F64;
+  private touched: Int32Array<ArrayBufferLike> = EMPTY_I32;
   /** Per-trial scratch: the node ranges [lo, hi] worth visiting. */
   private ranges = new Int32Array(2 * MAX_RUNS);
 
@@ -68,7 +71,7 @@ export class ConditionResponse {
     this.grid = this.curve ? new MeasurementGrid(this.curve, noise, xLo, xHi, obs.motorSd, this.closed) : null;
     if (this.grid) {
       this.exps = this.grid.scratch;
-      this.touched = new Int32Array(this.grid.subLeft.length);
+      if (this.grid.subLeft.length > 0) this.touched = new Int32Array(this.grid.subLeft.length);
     }
   }
 
@@ -383,8 +386,10 @@ export function lapseFreeTerms(obs: Observer, data: Dataset, curves?: readonly (
   const range = scale.upper - scale.lower;
   const tol = 1e-9 * range;
   const n = data.stimulus.length;
-  const core = new Float64Array(n);
-  const lapse = new Float64Array(n);
+  // One buffer for both (an allocation per typed array of this size).
+  const both = new Float64Array(2 * n);
+  const core = both.subarray(0, n);
+  const lapse = both.subarray(n);
   for (let t = 0; t < n; t++) {
     const m = models[data.condition[t]];
     const x = data.stimulus[t];

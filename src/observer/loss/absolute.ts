@@ -8,7 +8,7 @@ export const absoluteLoss: LossFunction = {
   family: 'absolute',
   params: {},
   loss: (e) => Math.abs(e),
-  estimate: (post) => post.quantile(0.5),
+  estimate: (post, hint) => post.quantile(0.5, hint),
   mayJump: false,
   symmetric: true,
 };

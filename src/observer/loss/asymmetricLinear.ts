@@ -20,7 +20,7 @@ export function asymmetricLinearLoss(level: number): LossFunction {
     family: 'asymmetric-linear',
     params: { level },
     loss: (e) => (e < 0 ? -level * e : (1 - level) * e),
-    estimate: (post) => post.quantile(level),
+    estimate: (post, hint) => post.quantile(level, hint),
     mayJump: false,
     symmetric: level === 0.5,
   };
