@@ -703,3 +703,31 @@ describe('motor awareness (Observer.motorAware: the posterior convolved with N(0
     }
   });
 });
+
+describe('estimateAt (a loss conditioning the posterior itself) equals setMeasurement then estimate', () => {
+  const losses: [string, LossFunction][] = [
+    ['squared', squaredLoss],
+    ['hit-or-miss 1', hitOrMissLoss(1)],
+  ];
+  const posts: [string, Distribution, SensoryNoise][] = [
+    ['gamma, constant (unimodal)', new Gamma(2, 9), new ConstantNoise(6)],
+    ['log-normal, log-gaussian (unimodal)', new LogNormal(2, 0.5), new LogGaussianNoise(0.2)],
+    ['mixture, constant (bimodal)', new GaussianMixture([{ weight: 1, mean: -3, sd: 0.7 }, { weight: 1, mean: 3, sd: 0.7 }]), new ConstantNoise(1.5)],
+  ];
+  it.each(losses)('%s', (_name, loss) => {
+    expect(loss.estimateAt).toBeDefined();
+    for (const [, prior, noise] of posts) {
+      const xLo = prior.quantile(0.02);
+      const xHi = prior.quantile(0.98);
+      const a = gridFor(prior, noise, xLo, xHi);
+      const b = gridFor(prior, noise, xLo, xHi);
+      for (let i = 0; i <= 10; i++) {
+        const m = noise.center(xLo + ((xHi - xLo) * i) / 10);
+        const direct = loss.estimateAt!(a, m, NaN);
+        b.setMeasurement(m);
+        const plain = loss.estimate(b, NaN);
+        expect(Math.abs(direct - plain)).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(plain)));
+      }
+    }
+  });
+});

@@ -33,16 +33,7 @@ export function motorReach(obs: Observer): number {
 
 /** Pointwise Bayes estimate at measurement m (used by the curve and by the sampler). */
 export function estimateAt(obs: Observer, post: GridPosterior, m: number, hint: number): number {
-  if (!obs.motorAware) {
-    // The squared loss needs only the mean: skip storing the normalised posterior.
-    if (obs.loss.family === 'squared') return post.meanAt(m);
-    // Hit-or-miss on a unimodal posterior brackets a root of the exact density
-    // near the mode and usually needs no normalised posterior at all.
-    if (obs.loss.family === 'hit-or-miss' && post.unimodal) {
-      post.setMeasurementDeferred(m);
-      return obs.loss.estimate(post, hint);
-    }
-  }
+  if (!obs.motorAware && obs.loss.estimateAt) return obs.loss.estimateAt(post, m, hint);
   post.setMeasurement(m);
   if (obs.motorAware) post.convolveGaussian(obs.motorSd);
   return obs.loss.estimate(post, hint);

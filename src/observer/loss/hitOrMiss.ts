@@ -150,31 +150,39 @@ function bracketNear(g: (c: number) => number, c: number, lo: number, hi: number
 }
 
 export function hitOrMissLoss(window: number): LossFunction {
+  const estimate = (post: GridPosterior, hint: number): number => {
+    if (post.unimodal && post.exactAvailable) {
+      // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
+      // within ε of the mode, so bracket there and skip the scan. The mode
+      // of the density in x: with a log warp it differs from that in u.
+      const j = post.modeNodeX();
+      // The centre stays within the support less ε, and sits at that end when
+      // the posterior is still falling there (the mode is at or near the end).
+      const [cMin, cMax] = centreRange(post, window);
+      const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
+      const lo = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
+      const hi = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
+      const tol = 1e-14 * Math.max(1, Math.abs(post.x[j]));
+      const near = hint > lo && hint < hi ? bracketNear(g, hint, lo, hi) : null;
+      if (near) return brentRoot(g, near.a, near.b, tol, 200, { fa: near.ga, fb: near.gb });
+      const { a, b, ga, gb } = finiteEnds(g, lo, hi);
+      if (a === cMin && ga <= 0) return cMin;
+      if (b === cMax && gb >= 0) return cMax;
+      if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, tol, 200, { fa: ga, fb: gb });
+    }
+    return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
+  };
   return {
     family: 'hit-or-miss',
     params: { window },
     loss: (e) => (Math.abs(e) < window ? 0 : 1),
-    estimate: (post, hint) => {
-      if (post.unimodal && post.exactAvailable) {
-        // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
-        // within ε of the mode, so bracket there and skip the scan. The mode
-        // of the density in x: with a log warp it differs from that in u.
-        const j = post.modeNodeX();
-        // The centre stays within the support less ε, and sits at that end when
-        // the posterior is still falling there (the mode is at or near the end).
-        const [cMin, cMax] = centreRange(post, window);
-        const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-        const lo = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
-        const hi = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
-        const tol = 1e-14 * Math.max(1, Math.abs(post.x[j]));
-        const near = hint > lo && hint < hi ? bracketNear(g, hint, lo, hi) : null;
-        if (near) return brentRoot(g, near.a, near.b, tol, 200, { fa: near.ga, fb: near.gb });
-        const { a, b, ga, gb } = finiteEnds(g, lo, hi);
-        if (a === cMin && ga <= 0) return cMin;
-        if (b === cMax && gb >= 0) return cMax;
-        if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, tol, 200, { fa: ga, fb: gb });
-      }
-      return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
+    estimate,
+    // On a unimodal posterior the bracketed root reads only the exact density near the mode:
+    // the normalised posterior is left to whichever method needs it (usually none).
+    estimateAt: (post, m, hint) => {
+      if (post.unimodal) post.setMeasurementDeferred(m);
+      else post.setMeasurement(m);
+      return estimate(post, hint);
     },
     mayJump: true,
     symmetric: true,

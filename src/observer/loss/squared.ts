@@ -9,6 +9,8 @@ export const squaredLoss: LossFunction = {
   params: {},
   loss: (e) => e * e,
   estimate: (post) => post.mean(),
+  // The mean straight from the evaluated window, without storing the normalised posterior.
+  estimateAt: (post, m) => post.meanAt(m),
   mayJump: false,
   symmetric: true,
 };

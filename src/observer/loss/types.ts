@@ -11,6 +11,14 @@ export interface LossFunction {
   loss(error: number): number;
   /** Bayes estimate for the current posterior; `hint` is the estimate at a neighbouring measurement. */
   estimate(post: GridPosterior, hint: number): number;
+  /**
+   * Optional: the estimate at measurement m, for a loss that needs less than
+   * the stored, normalised posterior (the squared loss only its mean). Must
+   * return what setMeasurement(m) then estimate(post, hint) would; what `post`
+   * holds afterwards is unspecified (call setMeasurement before reading it).
+   * Not used for motor-aware observers, whose posterior is convolved first.
+   */
+  estimateAt?(post: GridPosterior, m: number, hint: number): number;
   /** The estimate can jump as the measurement moves (bimodal posteriors, non-convex losses). */
   readonly mayJump: boolean;
   /** L(e) = L(−e). */
