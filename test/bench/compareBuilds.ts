@@ -1,21 +1,26 @@
 /**
  * A/B timing of two builds of lossprobe, alternating between them:
  *
- *   npx tsx test/bench/compareBuilds.ts OLD_DIST NEW_DIST [--rounds 5] [--fits] [--more]
+ *   npx tsc -p tsconfig.bench.json
+ *   node dist-bench/test/bench/compareBuilds.js OLD_DIST NEW_DIST [--rounds 5] [--fits] [--more]
+ *
+ * (Plain node, as lossprobe runs: under tsx the children's timings were about
+ * 1.5× higher and noisier.)
  *
  * e.g. `cp -r dist /tmp/old-dist` before a change, rebuild, then compare
  * /tmp/old-dist with dist. Both builds time the same cases as `npm run bench`
  * section 1 (section 2 with --fits; with --more, other priors, noise families
  * and motor noise levels, including the traps of issue #2). Each round runs
- * one child process per build, in the order A, B then B, A (so that the
+ * one child process per build and case, in the order A, B then B, A (so that the
  * machine's slow drifts hit both alike: timings here vary 2× between runs,
  * other jobs share the cores); the printed ratio is the median over rounds of
  * the per-round ratio B/A.
  *
- * One build per process: with both builds loaded in one process (as this tool
- * did before), two copies of the same build timed 2.2× apart, the second one
- * loaded being the slower (measured on this machine), so the ratios said more
- * about load order than about the code.
+ * One build and one case per process: with both builds loaded in one process
+ * (as this tool did before), two copies of the same build timed 2.2× apart,
+ * the second one loaded being the slower, and with every case in one process
+ * the first timed and the mix of losses moved the timings by ±30% (measured
+ * on this machine), so the ratios said more about order than about the code.
  */
 import { spawnSync } from 'node:child_process';
 import { resolve } from 'node:path';
@@ -146,56 +151,58 @@ interface CaseTiming {
   logLik: number;
 }
 
-/** Child: every case on one build, each warmed up, as JSON on stdout. */
-async function timeOneBuild(dist: string): Promise<CaseTiming[]> {
-  const b = await load(dist);
-  const cases: { name: string; fn: () => number; reps: number; batch: number }[] = families.map((s) => ({ name: JSON.stringify(s), fn: densityCase(b, s), reps: 7, batch: 10 }));
-  if (withMore) for (const m of more) cases.push({ name: m[0], fn: moreCase(b, m), reps: 5, batch: 3 });
+/** The cases, by name, with how to build each on a loaded build and how long to time it. */
+function caseList(): { name: string; make: (b: Build) => () => number; reps: number; batch: number }[] {
+  const list = families.map((spec) => ({ name: JSON.stringify(spec), make: (b: Build) => densityCase(b, spec), reps: 15, batch: 20 }));
+  if (withMore) for (const m of more) list.push({ name: m[0], make: (b: Build) => moreCase(b, m), reps: 7, batch: 3 });
   if (withFits) {
     for (const [name, loss] of [
       ['fit power', { family: 'power', exponent: 1.6 }],
       ['fit squared', { family: 'squared' }],
-    ] as const) cases.push({ name, fn: fitCase(b, name, loss), reps: 1, batch: 1 });
+    ] as const) list.push({ name, make: (b: Build) => fitCase(b, name, loss), reps: 3, batch: 1 });
   }
-  // Every case warmed up before any is timed: the cases share most of the code, and
-  // timing the first one while later ones still trigger compilation skews it.
-  for (const c of cases) for (let i = 0; i < (c.reps > 1 ? 30 : 1); i++) c.fn();
-  return cases.map((c) => ({ name: c.name, ms: time(c.fn, c.reps, c.batch), logLik: c.fn() }));
+  return list;
 }
 
-function runChild(dist: string): CaseTiming[] {
+/** Child: one case on one build, warmed up, as JSON on stdout. */
+async function timeOneCase(dist: string, name: string): Promise<CaseTiming> {
+  const b = await load(dist);
+  const c = caseList().find((k) => k.name === name);
+  if (!c) throw new Error(`no case ${name}`);
+  const fn = c.make(b);
+  // At least 0.3 s of warm-up: V8 tiers hot code up over time, not a fixed number of calls.
+  const w0 = performance.now();
+  for (let n = 0; n < 2 || performance.now() - w0 < 300; n++) fn();
+  return { name, ms: time(fn, c.reps, c.batch), logLik: fn() };
+}
+
+function runChild(dist: string, name: string): CaseTiming {
   const self = fileURLToPath(import.meta.url);
   const extra = [withFits ? '--fits' : '', withMore ? '--more' : ''].filter(Boolean);
-  const out = spawnSync(process.execPath, [...process.execArgv, self, '--child', dist, ...extra], { encoding: 'utf8', maxBuffer: 1 << 24 });
-  if (out.status !== 0) throw new Error(`timing ${dist} failed:\n${out.stderr}`);
+  const out = spawnSync(process.execPath, [...process.execArgv, self, '--child', dist, '--case', name, ...extra], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  if (out.status !== 0) throw new Error(`timing ${name} on ${dist} failed:\n${out.stderr}`);
   return JSON.parse(out.stdout.trim().split('\n').pop()!);
 }
 
 if (childDist) {
-  console.log(JSON.stringify(await timeOneBuild(childDist)));
+  console.log(JSON.stringify(await timeOneCase(childDist, args[args.indexOf('--case') + 1])));
 } else {
-  console.log(`A = ${distA}\nB = ${distB}\n${rounds} rounds of one process per build (A, B then B, A); CPU time per call, medians over rounds\n`);
-  const ta = new Map<string, number[]>();
-  const tb = new Map<string, number[]>();
-  const ll = new Map<string, [number, number]>();
-  for (let k = 0; k < rounds; k++) {
-    const order = k % 2 === 0 ? [distA, distB] : [distB, distA];
-    const got = new Map(order.map((d) => [d, runChild(d)]));
-    for (const [dist, into] of [[distA, ta], [distB, tb]] as const) {
-      for (const c of got.get(dist)!) {
-        into.set(c.name, [...(into.get(c.name) ?? []), c.ms]);
-        const pair = ll.get(c.name) ?? [NaN, NaN];
-        pair[dist === distA ? 0 : 1] = c.logLik;
-        ll.set(c.name, pair);
-      }
-    }
-  }
+  console.log(`A = ${distA}\nB = ${distB}\n${rounds} rounds of one process per build and case (A, B then B, A); CPU time per call, medians over rounds\n`);
   console.log(`${'case'.padEnd(48)} ${'A'.padStart(10)} ${'B'.padStart(10)}  B/A    log-lik A − B`);
   const fmt = (ms: number) => (ms >= 10 ? `${(ms / 1000).toFixed(3)} s` : `${(ms * 1000).toFixed(0)} µs`);
-  for (const [name, as] of ta) {
-    const bs = tb.get(name)!;
+  for (const { name } of caseList()) {
+    const as: number[] = [];
+    const bs: number[] = [];
+    let la = NaN;
+    let lb = NaN;
+    for (let k = 0; k < rounds; k++) {
+      for (const dist of k % 2 === 0 ? [distA, distB] : [distB, distA]) {
+        const t = runChild(dist, name);
+        if (dist === distA) (as.push(t.ms), (la = t.logLik));
+        else (bs.push(t.ms), (lb = t.logLik));
+      }
+    }
     const ratio = as.map((a, i) => bs[i] / a);
-    const [la, lb] = ll.get(name)!;
     console.log(`${name.padEnd(48)} ${fmt(median(as)).padStart(10)} ${fmt(median(bs)).padStart(10)}  ${median(ratio).toFixed(3)}  ${(la - lb).toExponential(2)}`);
   }
 }

@@ -8,6 +8,10 @@
  *  3. Jobs per second end to end on the skewed demo with 1 and 2 workers.
  *  4. Peak memory of summarising a 10,000-job study from its lines.
  * Pass --quick to skip parts 3 and 4.
+ *
+ * It runs compiled by tsc (tsconfig.bench.json → dist-bench/) under plain
+ * node, as lossprobe itself runs: run through tsx, the same code timed about
+ * 1.5× slower and less steadily (measured: squared 311 against 199 µs).
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync, readFileSync } from 'node:fs';
@@ -27,16 +31,28 @@ import { referenceLogLikelihood } from '../helpers/referenceLikelihood.js';
 const quick = process.argv.includes('--quick');
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
-function timeIt(fn: () => void, reps: number): number {
-  // Warm up well past V8's optimisation of the hot loops: with 5 warm-up calls
-  // the first family measured (squared) still paid for compilation (measured 5–7 ms
-  // against ~1 ms once warm).
-  for (let i = 0; i < Math.min(20, reps); i++) fn();
-  const ts: number[] = [];
-  for (let i = 0; i < reps; i++) {
-    const t0 = performance.now();
+/**
+ * CPU time per call in ms: the median of 15 batches of about 20 ms each, after
+ * at least 0.3 s of warm-up calls. V8 tiers hot code up over hundreds of
+ * milliseconds rather than a fixed number of calls: with 20 warm-up calls the
+ * first family timed (squared, ≈0.2 ms a call) measured 580 µs where 300 µs
+ * was its steady state. CPU rather than wall time, so other jobs on the cores
+ * count less.
+ */
+function timeIt(fn: () => void): number {
+  const w0 = performance.now();
+  let n = 0;
+  while (n < 20 || performance.now() - w0 < 300) {
     fn();
-    ts.push(performance.now() - t0);
+    n++;
+  }
+  const batch = Math.max(1, Math.ceil(20 / ((performance.now() - w0) / n)));
+  const ts: number[] = [];
+  for (let i = 0; i < 15; i++) {
+    const c0 = process.cpuUsage();
+    for (let b = 0; b < batch; b++) fn();
+    const d = process.cpuUsage(c0);
+    ts.push((d.user + d.system) / 1000 / batch);
   }
   return median(ts);
 }
@@ -69,7 +85,7 @@ for (const { spec, target } of families) {
   const rand = streamFromKey(`bench/${JSON.stringify(spec)}`);
   const stim = Float64Array.from({ length: 300 }, () => obs.prior.sample(rand));
   const data = simulateResponses(obs, stim, new Int32Array(300), rand);
-  const ms = timeIt(() => logLikelihood(obs, data), 30);
+  const ms = timeIt(() => logLikelihood(obs, data));
   const err = Math.abs(logLikelihood(obs, data) - referenceLogLikelihood(obs, data).logLik);
   console.log(`   ${JSON.stringify(spec).padEnd(46)} ${(ms * 1000).toFixed(0).padStart(7)} µs   target ${target.padEnd(9)}  |error vs reference| ${err.toExponential(1)}`);
 }
