@@ -59,7 +59,8 @@ export class GridPosterior {
   readonly quadWeight: Float64Array;
   private readonly logBase: Float64Array;
   /** dx/du at the nodes, and its log. */
-  private readonly jac: Float64Array;
+  /** dx/du at each node. */
+  readonly jac: Float64Array;
   private readonly logJac: Float64Array;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;

@@ -102,7 +102,7 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
     // (for a < 0 the Hadamard finite part).
     if (a !== 0) s1 += (g0 * (B[0] * sgn(XB) - A[0] * sgn(XA))) / a + (g1 * (B[1] - A[1])) / (a + 1) + (0.5 * g2 * (B[2] * sgn(XB) - A[2] * sgn(XA))) / (a + 2);
   }
-  const dxdu = nodeJacobian(post);
+  const dxdu = post.jac;
   for (let j = Math.max(jLo, post.first), e = Math.min(jHi, post.last); j <= e; j++) {
     const d = c - xs[j];
     const k = absPow(d, a);
@@ -134,17 +134,6 @@ function endPowers(X: number, a: number): Float64Array {
   return out;
 }
 
-/** dx/du at every posterior node, once per grid (every measurement of a curve shares it). */
-const jacobians = new WeakMap<GridPosterior, Float64Array>();
-function nodeJacobian(post: GridPosterior): Float64Array {
-  let J = jacobians.get(post);
-  if (!J) {
-    J = new Float64Array(post.nNodes);
-    for (let j = 0; j < post.nNodes; j++) J[j] = post.warp.dxdu(post.u[j]);
-    jacobians.set(post, J);
-  }
-  return J;
-}
 
 /**
  * Density in x at c (in panel pc, at u = uc) and its first two derivatives, by
@@ -285,7 +274,7 @@ function scanNode(post: GridPosterior, j: number, p: number): ScanNode | null {
     let s2 = 0;
     for (let i = pLo * n; i <= pHi * n + n - 1; i++) {
       row[i] = absPow(c - xs[i], p);
-      const w = post.quadWeight[i] * row[i] * post.warp.dxdu(post.u[i]);
+      const w = post.quadWeight[i] * row[i] * post.jac[i];
       const d = xs[i] - c;
       s0 += w;
       s1 += w * d;
