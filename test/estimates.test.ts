@@ -35,7 +35,7 @@ import { absoluteLoss } from '../src/observer/loss/absolute.js';
 import { hitOrMissLoss } from '../src/observer/loss/hitOrMiss.js';
 import { powerLoss } from '../src/observer/loss/power.js';
 import { asymmetricLinearLoss } from '../src/observer/loss/asymmetricLinear.js';
-import { invertedGaussianLoss } from '../src/observer/loss/invertedGaussian.js';
+import { invertedGaussianLoss, NARROW } from '../src/observer/loss/invertedGaussian.js';
 import type { LossFunction } from '../src/observer/loss/types.js';
 import { buildPosteriorGrid, measurementRange } from '../src/observer/gridFactory.js';
 import type { GridPosterior } from '../src/observer/gridPosterior.js';
@@ -395,9 +395,9 @@ describe('inverted-gaussian against an independent smoothed-posterior maximisati
     const grid = gridFor(prior, noise, xLo, xHi);
     for (const x of [0.5 * xLo, xLo, 0.5 * (xLo + xHi), xHi, xHi + 2]) {
       const m = noise.center(x);
-      // 0.5/0.55 and 0.75/0.85 sit either side of the switch between the exact-density and
-      // node-sum paths (0.35 panels: 0.525 for the constant-1 grid, 0.79 for constant 1.5).
-      for (const eps of [0.05, 0.3, 0.5, 0.55, 0.75, 0.85, 1, 3]) {
+      // 0.7/0.8 and 1.1/1.15 sit either side of the switch between the exact-density and
+      // node-sum paths (NARROW = 0.5 panels: 0.75 for the constant-1 grid, 1.125 for constant 1.5).
+      for (const eps of [0.05, 0.3, 0.7, 0.8, 1, 1.1, 1.15, 3]) {
         grid.setMeasurement(m);
         const s = postSd(grid);
         const mean = grid.mean();
@@ -418,12 +418,12 @@ describe('inverted-gaussian: the exact-density and node-sum paths meet at their 
     const grid = gridFor(prior, noise, 1, 60);
     for (const x of [1, 8, 20, 45]) {
       grid.setMeasurement(noise.center(x));
-      // The panel holding the posterior's peak sets the switch (0.35 of its width in x).
+      // The panel holding the posterior's peak sets the switch (NARROW of its width in x).
       let jMax = grid.first;
       for (let j = grid.first; j <= grid.last; j++) if (grid.f[j] > grid.f[jMax]) jMax = j;
       const p = Math.floor(jMax / 10);
       const panelX = 2 * grid.panelHalf[p] * grid.warp.dxdu(grid.panelStart[p] + grid.panelHalf[p]);
-      const w = 0.35 * panelX;
+      const w = NARROW * panelX;
       const below = invertedGaussianLoss(w * (1 - 1e-9)).estimate(grid, NaN);
       const above = invertedGaussianLoss(w * (1 + 1e-9)).estimate(grid, NaN);
       expect(Math.abs(below - above) / postSd(grid)).toBeLessThanOrEqual(1e-9);

@@ -1,9 +1,10 @@
 /**
  * The fit's objective reuses work between nearby points (src/fit/fitModel.ts):
- * the lapse-free terms across probes along the lapse rate, and the estimate
- * curves across probes along the motor sd. Both must give what a fresh
- * evaluation gives: the reference here is lapseFreeTerms / the objective
- * built anew for the probe point alone.
+ * the lapse-free terms across probes along the lapse rate (exactly what a
+ * fresh evaluation gives), and the estimate curves across probes along the
+ * motor sd (the same wherever refinement would choose the same nodes, as in
+ * these cases). The reference is lapseFreeTerms / the objective built anew
+ * for the probe point alone.
  */
 import { describe, it, expect } from 'vitest';
 import { negLogLikObjective, freeVector } from '../src/fit/fitModel.js';
@@ -32,6 +33,22 @@ describe('work shared between nearby points of a fit', () => {
       // The refinement tolerance moved by 0.5%: the same nodes, so the same likelihood.
       expect(Math.abs(logLikelihoodFromTerms(reused, obs.lapseRate) - logLikelihoodFromTerms(fresh, obs.lapseRate))).toBeLessThanOrEqual(1e-9);
     }
+  });
+
+  it('a chain of small motor-sd steps does not carry a curve beyond 1% of where it was built', () => {
+    // A case whose refinement does move with the tolerance (power p = 0.5, small motor noise).
+    const m = model({ loss: { family: 'power', exponent: 0.5 }, noise: { family: 'constant', sd: 2 }, motorSd: 0.3 });
+    const data = simulate(m, 300, 'objective-chain');
+    const i = m.free.findIndex((p) => p.name === 'motorSd');
+    const shared = negLogLikObjective(m, data, []);
+    let z = freeVector(m, m.base);
+    // Steps of 0.8% in σm: each within 1% of the last, 8% after ten.
+    for (let k = 1; k <= 10; k++) {
+      shared(z);
+      z = z.slice();
+      z[i] = freeVector(m, { ...m.base, motorSd: 0.3 * 0.992 ** k })[i];
+    }
+    expect(Math.abs(shared(z) - negLogLikObjective(m, data, [])(z))).toBeLessThanOrEqual(1e-9);
   });
 
   it.each(cases)('$name: the objective after its own probes equals a fresh objective at each probe', ({ loss }) => {
