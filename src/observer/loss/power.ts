@@ -93,8 +93,8 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
   const XB = post.warp.fromU(post.panelStart[pHi] + 2 * post.panelHalf[pHi]) - c;
   // The subtracted Taylor terms integrated exactly: antiderivatives of
   // |s|^b and sgn(s)|s|^b for b = a − 1 … a + 2, all from one power per end.
-  const A = endPowers(XA, a);
-  const B = endPowers(XB, a);
+  const A = endPowers(XA, a, endA);
+  const B = endPowers(XB, a, endB);
   if (!odd) s += g0 * (B[1] * sgn(XB) - A[1] * sgn(XA)) / (a + 1) + (g1 * (B[2] - A[2])) / (a + 2) + (0.5 * g2 * (B[3] * sgn(XB) - A[3] * sgn(XA))) / (a + 3);
   else {
     s -= (g0 * (B[1] - A[1])) / (a + 1) + (g1 * (B[2] * sgn(XB) - A[2] * sgn(XA))) / (a + 2) + (0.5 * g2 * (B[3] - A[3])) / (a + 3);
@@ -119,12 +119,15 @@ export function kinkedExpectation(post: GridPosterior, c: number, a: number, odd
 
 const sgn = (t: number) => (t < 0 ? -1 : 1);
 
-/** |X|^a, |X|^(a+1), |X|^(a+2), |X|^(a+3) from one exp and log (scratch, reused). */
+/**
+ * |X|^a, |X|^(a+1), |X|^(a+2), |X|^(a+3) into `out`, from one exp and log: the
+ * antiderivatives of the subtracted Taylor terms at a panel end X, as
+ * sgn(X)·|X|^(b+1)/(b+1) for the kernel |s|^b and |X|^(b+1)/(b+1) for
+ * sgn(s)|s|^b. endA and endB are the scratch for the two ends.
+ */
 const endA = new Float64Array(4);
 const endB = new Float64Array(4);
-let endFlip = false;
-function endPowers(X: number, a: number): Float64Array {
-  const out = (endFlip = !endFlip) ? endA : endB;
+function endPowers(X: number, a: number, out: Float64Array): Float64Array {
   const t = Math.abs(X);
   const p = absPow(t, a);
   out[0] = p;
@@ -133,7 +136,6 @@ function endPowers(X: number, a: number): Float64Array {
   out[3] = p * t * t * t;
   return out;
 }
-
 
 /**
  * Density in x at c (in panel pc, at u = uc) and its first two derivatives, by
@@ -147,13 +149,6 @@ function densityJet(post: GridPosterior, c: number, pc: number, uc: number): [nu
   return [g0, (gp - gm) / (2 * hx), (gp - 2 * g0 + gm) / (hx * hx)];
 }
 
-/** Antiderivative of |s|^b (as sgn(s)|s|^(b+1)/(b+1)) and of sgn(s)|s|^b (as |s|^(b+1)/(b+1)). */
-function evenAnti(t: number, b: number): number {
-  return ((t < 0 ? -1 : 1) * absPow(t, b + 1)) / (b + 1);
-}
-function oddAnti(t: number, b: number): number {
-  return absPow(t, b + 1) / (b + 1);
-}
 
 /**
  * Near a = p − 1 = 0 the slope a·E|c − x|^(a−1) is a difference of large
@@ -280,11 +275,13 @@ function scanNode(post: GridPosterior, j: number, p: number): ScanNode | null {
       s1 += w * d;
       s2 += w * d * d;
     }
+    const A = endPowers(XA, p, endA);
+    const B = endPowers(XB, p, endB);
     node = {
       row,
-      k0: evenAnti(XB, p) - evenAnti(XA, p) - s0,
-      k1: oddAnti(XB, p + 1) - oddAnti(XA, p + 1) - s1,
-      k2: 0.5 * (evenAnti(XB, p + 2) - evenAnti(XA, p + 2) - s2),
+      k0: (B[1] * sgn(XB) - A[1] * sgn(XA)) / (p + 1) - s0,
+      k1: (B[2] - A[2]) / (p + 2) - s1,
+      k2: 0.5 * ((B[3] * sgn(XB) - A[3] * sgn(XA)) / (p + 3) - s2),
     };
     cache.nodes[j] = node;
   }
