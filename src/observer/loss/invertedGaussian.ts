@@ -135,8 +135,7 @@ export function invertedGaussianLoss(width: number): LossFunction {
     estimate: (post, hint) => {
       // Narrow regime when ε is below NARROW panels (in x) where the posterior peaks;
       // the node sum needs several nodes per kernel width.
-      let jMax = post.first;
-      for (let j = post.first; j <= post.last; j++) if (post.f[j] > post.f[jMax]) jMax = j;
+      const jMax = post.peakNode();
       const p = Math.floor(jMax / NODES_PER_PANEL);
       const uMid = post.panelStart[p] + post.panelHalf[p];
       const panelX = 2 * post.panelHalf[p] * post.warp.dxdu(uMid);
