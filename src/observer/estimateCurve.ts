@@ -135,6 +135,7 @@ export class EstimateCurve {
     let x = EMPTY_F64;
     let sl = EMPTY_F64;
     let b = new Uint8Array(0);
+    const passed: number[] = [];
     for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
       const len = vs.length;
       if (len > cap) {
@@ -164,6 +165,8 @@ export class EstimateCurve {
       const nx: number[] = [];
       const nb: number[] = [];
       const nc: number[] = [];
+      // Checked segments whose midpoint passed: old index, new index of their left node.
+      passed.length = 0;
       let any = false;
       for (let i = 0; i < len; i++) {
         nv.push(vs[i]);
@@ -194,6 +197,7 @@ export class EstimateCurve {
           nc.push(0);
           continue;
         }
+        if (!failed) passed.push(i, nv.length - 1);
         nb.push(0);
         nc.push(failed ? 1 : 0);
         nv.push(vm);
@@ -202,6 +206,7 @@ export class EstimateCurve {
         nc.push(failed ? 1 : 0);
         any = any || failed;
       }
+      if (passed.length > 0 && this.quarterMisses(v, x, sl, nv, nx, nb, nc, passed, tol)) any = true;
       vs = nv;
       xs = nx;
       brk = nb;
@@ -209,6 +214,49 @@ export class EstimateCurve {
       if (!any) break;
     }
     return [vs, xs, brk];
+  }
+
+  /**
+   * A midpoint can agree with the interpolant by accident: errors of the node
+   * slopes that are equal at both ends of a segment move the cubic by
+   * h·δ·t(1 − t)(1 − 2t), which vanishes at t = ½ and peaks near the quarter
+   * points (measured: a segment passed its midpoint test while missing x̂ by
+   * 16 tolerances at t ≈ 0.28, and whether a neighbouring segment's test
+   * happened to fail decided whether it was refined, so the log-likelihood
+   * stepped by 1e−3 as the parameters moved). So each passed segment's old
+   * interpolant is compared, at its quarter points, with the new one through
+   * its midpoint (slopes from the refined node set, as the final curve takes
+   * them); where they differ by more than the tolerance, both halves are
+   * checked again. Returns whether any were.
+   */
+  private quarterMisses(v: Float64Array, x: Float64Array, sl: Float64Array, nv: number[], nx: number[], nb: number[], nc: number[], passed: number[], tol: number): boolean {
+    const n = nv.length;
+    const V = Float64Array.from(nv);
+    const X = Float64Array.from(nx);
+    const B = Uint8Array.from(nb);
+    const S = new Float64Array(3);
+    let any = false;
+    for (let p = 0; p < passed.length; p += 2) {
+      const i = passed[p];
+      const j = passed[p + 1];
+      for (let k = 0; k < 3; k++) S[k] = nodeSlope(V, X, B, n, j + k);
+      const h = V[j + 2] - V[j];
+      let miss = false;
+      for (const t of QUARTERS) {
+        const u = V[j] + t * h;
+        const half = t < 0.5 ? 0 : 1;
+        const hn = V[j + half + 1] - V[j + half];
+        const tn = (u - V[j + half]) / hn;
+        const fresh = hermiteUnit(X[j + half], X[j + half + 1], hn * S[half], hn * S[half + 1], tn);
+        if (Math.abs(fresh - hermite(v, x, sl, i, u)) > tol) miss = true;
+      }
+      if (miss) {
+        nc[j] = 1;
+        nc[j + 1] = 1;
+        any = true;
+      }
+    }
+    return any;
   }
 
   /** Index i with v[i] ≤ v < v[i+1] (clamped); nodes are not uniform. */
@@ -268,6 +316,15 @@ function closeGaps(vs: number[], xs: number[], brk: number[]): [number[], number
     nb.push(0);
   }
   return [nv, nx, nb];
+}
+
+const QUARTERS = [0.25, 0.75];
+
+/** The cubic Hermite piece on [0, 1] with end values y0, y1 and end derivatives d0, d1 (per unit t). */
+function hermiteUnit(y0: number, y1: number, d0: number, d1: number, t: number): number {
+  const t2 = t * t;
+  const t3 = t2 * t;
+  return (2 * t3 - 3 * t2 + 1) * y0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * y1 + (t3 - t2) * d1;
 }
 
 /** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
