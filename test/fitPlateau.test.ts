@@ -1,0 +1,57 @@
+/**
+ * leavePlateaus (src/fit/fitModel.ts): a search that stopped with a coordinate
+ * far out on the logistic transform's plateau, where the gradient vanishes,
+ * is continued from inside when the interior does better, and left alone
+ * when the bound really is best.
+ *
+ * The objectives are written in θ = σ(z) (the logit transform of a parameter
+ * on (0, 1)), so their minima are known exactly.
+ */
+import { describe, it, expect } from 'vitest';
+import { leavePlateaus } from '../src/fit/fitModel.js';
+import { bfgs, type MinimizeResult } from '../src/numerics/optimize.js';
+
+const sigma = (z: number) => 1 / (1 + Math.exp(-z));
+const stoppedAt = (f: (z: readonly number[]) => number, x: number[]): MinimizeResult => ({ x, value: f(x), evaluations: 1, converged: true, reason: 'gradient tolerance reached' });
+
+describe('a parameter stopped on its bound plateau', () => {
+  it('is searched again from inside when the interior is better (minimum at θ = 0.3)', () => {
+    const f = (z: readonly number[]) => 100 * (sigma(z[0]) - 0.3) ** 2 + (z[1] - 1) ** 2;
+    // BFGS itself stops on the plateau: the gradient at z = 30 is ~1e-11.
+    const plain = bfgs(f, [30, 1]);
+    expect(plain.x[0]).toBeGreaterThan(20);
+    const r = leavePlateaus(f, stoppedAt(f, [30, 1]), 400);
+    expect(sigma(r.x[0])).toBeCloseTo(0.3, 4);
+    expect(r.x[1]).toBeCloseTo(1, 4);
+    expect(r.value).toBeLessThan(1e-8);
+    expect(r.reason).toMatch(/left a bound plateau/);
+  });
+
+  it('two coordinates holding each other on their plateaus are pulled together', () => {
+    // Either coordinate alone gains little while the other stays at its bound.
+    const f = (z: readonly number[]) => {
+      const a = sigma(z[0]);
+      const b = sigma(z[1]);
+      return 50 * (a - 0.4) ** 2 + 50 * (b - 0.6) ** 2 + 40 * (a - b) ** 2 * (a + b);
+    };
+    const r = leavePlateaus(f, stoppedAt(f, [-25, -25]), 400);
+    expect(r.value).toBeLessThan(f([-25, -25]) - 1);
+    const g = bfgs(f, [0, 0]);
+    expect(r.value).toBeCloseTo(g.value, 6);
+  });
+
+  it('stays at the bound when the bound is best, for the cost of one evaluation per plateau coordinate', () => {
+    const f = (z: readonly number[]) => -sigma(z[0]) + (z[1] - 2) ** 2;
+    const start = stoppedAt(f, [25, 2]);
+    const r = leavePlateaus(f, start, 400);
+    expect(r.x).toEqual(start.x);
+    expect(r.value).toBe(start.value);
+    expect(r.evaluations).toBe(start.evaluations + 1);
+  });
+
+  it('leaves interior optima alone (no evaluations)', () => {
+    const f = (z: readonly number[]) => (z[0] - 1) ** 2 + (z[1] + 2) ** 2;
+    const start = stoppedAt(f, [1, -2]);
+    expect(leavePlateaus(f, start, 400)).toEqual(start);
+  });
+});
