@@ -47,7 +47,8 @@ export interface MinimizeOptions {
    * use one-sided differences (n probes instead of 2n). Their O(h) bias is
    * nearly the same at neighbouring points and largely cancels in the BFGS
    * update; near the optimum, where the convergence test needs an accurate
-   * gradient, central differences take over for good. Default 0: always central.
+   * gradient, central differences take over (one-sided again only if the
+   * gradient grows past three times this level). Default 0: always central.
    */
   forwardDifferenceFactor?: number;
 }
@@ -61,6 +62,10 @@ export interface MinimizeResult {
 }
 
 const NON_FINITE_START = 'non-finite objective at start';
+/** BFGS: back to one-sided differences once the gradient exceeds this many times the switch level (hysteresis). */
+const FORWARD_AGAIN = 3;
+/** BFGS: doublings of a step taken after one that learned no curvature (2⁶ = 64 times the step at most). */
+const MAX_GROWTH = 6;
 const BUDGET = 'evaluation budget exhausted';
 
 /**
@@ -341,9 +346,19 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
 
   let forward = forwardFactor > 0;
   let { g, reliable } = numericalGradient(obj, x, fx, gStep, forward);
-  // Once the gradient is small, central differences from then on (and now).
+  // Once the gradient is small, central differences (from now on, and at this
+  // point); one-sided again only if it grows well past the switch (a search
+  // that nears one basin and then moves on across a long slope, such as an
+  // exponent walking out to the optimum at its bound, would otherwise pay 2n
+  // probes per step all the way).
   const settle = (at: number[], fAt: number, grad: Gradient): Gradient => {
-    if (!forward || maxAbs(grad.g) > forwardFactor * gTol * Math.max(1, Math.abs(fAt))) return grad;
+    if (forwardFactor === 0) return grad;
+    const size = maxAbs(grad.g) / (gTol * Math.max(1, Math.abs(fAt)));
+    if (!forward) {
+      if (size > FORWARD_AGAIN * forwardFactor) forward = true;
+      return grad;
+    }
+    if (size > forwardFactor) return grad;
     forward = false;
     return numericalGradient(obj, at, fAt, gStep);
   };
@@ -352,6 +367,9 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
   // While H is the raw identity its step has the gradient's units, not x's, so
   // the first trial step is capped and the first update rescales H (N&W 6.20).
   let rawIdentity = true;
+  // Set when the last full step left the slope as steep as before (y·s ≤ 0: no
+  // curvature learned, so H cannot lengthen the next step; see below).
+  let tooShort = false;
   const c1 = 1e-4;
 
   for (;;) {
@@ -396,6 +414,23 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       }
       backtracked = true;
     }
+    if (accepted !== null && tooShort && !backtracked) {
+      // Where the objective curves the wrong way along p (a lapse rate far above
+      // its optimum, measured), y·s ≤ 0 at every step, the update is skipped and
+      // the search crept along p for 60 iterations at t = 1. Doubling the step
+      // while it keeps decreasing f crosses such a stretch in a few evaluations.
+      // It runs only after such a step, so it never acts near a minimum, where
+      // y·s > 0.
+      for (let grow = 0; grow < MAX_GROWTH; grow++) {
+        const t2 = 2 * t;
+        const xt = x.map((v, i) => v + t2 * p[i]);
+        const ft = obj.evaluate(xt);
+        if (obj.starved) return obj.result(false, BUDGET);
+        if (!(ft <= accepted.f + c1 * (t2 - t) * slope)) break;
+        accepted = { x: xt, f: ft };
+        t = t2;
+      }
+    }
     if (accepted === null) {
       if (!rawIdentity) {
         H = identity(n);
@@ -412,7 +447,9 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
     const ys = dot(y, s);
     const yy = dot(y, y);
     // Curvature condition: only a positive y·s keeps H positive definite.
-    if (ys > 1e-12 * Math.sqrt(yy * dot(s, s))) {
+    const curved = ys > 1e-12 * Math.sqrt(yy * dot(s, s));
+    tooShort = !curved && !rawIdentity;
+    if (curved) {
       if (rawIdentity) {
         const scale = ys / yy;
         H = H.map((row) => row.map((v) => v * scale));
