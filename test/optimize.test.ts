@@ -160,6 +160,25 @@ describe.each(methods)('%s', (_name, minimise) => {
   });
 });
 
+describe('bfgs across a stretch of negative curvature', () => {
+  // The tail of a Gaussian well curves the wrong way: each full step steepens the slope (y·s < 0),
+  // so the BFGS update is skipped and H cannot lengthen the steps. Before steps were doubled after
+  // such a step, the two cases below took 693 evaluations and ran out of 2000 at x ≈ −244.
+  const well = (sd: number) => (x: readonly number[]) => -100 * Math.exp(-((x[0] - 100) ** 2) / (2 * sd * sd)) + 0.5 * (x[1] - 1) ** 2;
+  it.each([
+    [10, 60],
+    [100, -250],
+  ])('a well of sd %s centred at 100, from x = %s: reached within 150 evaluations', (sd, x0) => {
+    for (const forwardDifferenceFactor of [0, 30]) {
+      const r = bfgs(well(sd), [x0, 0], { forwardDifferenceFactor });
+      expect(r.converged).toBe(true);
+      expect(r.x[0]).toBeCloseTo(100, 3);
+      expect(r.x[1]).toBeCloseTo(1, 3);
+      expect(r.evaluations).toBeLessThanOrEqual(forwardDifferenceFactor ? 150 : 250);
+    }
+  });
+});
+
 describe('nelderMead restart guard', () => {
   it('restarts once after an early stop and says so', () => {
     const r = nelderMead(rosenbrock, [-1.2, 1], { maxEvaluations: 5000 });
