@@ -51,6 +51,13 @@ export interface MinimizeOptions {
    * gradient grows past three times this level). Default 0: always central.
    */
   forwardDifferenceFactor?: number;
+  /**
+   * BFGS: called after every accepted step with the new point and value; a
+   * non-null answer ends the search there as converged, with that reason
+   * (a multi-start fit uses it to stop a start that has reached an optimum
+   * another start already found).
+   */
+  stopAt?: (x: readonly number[], f: number) => string | null;
 }
 
 export interface MinimizeResult {
@@ -440,6 +447,8 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       return obj.result(false, 'line search could not decrease the objective');
     }
 
+    const stop = options.stopAt?.(accepted.x, accepted.f);
+    if (stop) return obj.result(true, stop);
     const s = accepted.x.map((v, i) => v - x[i]);
     const next = settle(accepted.x, accepted.f, numericalGradient(obj, accepted.x, accepted.f, gStep, forward));
     if (obj.starved) return obj.result(false, BUDGET);

@@ -1,14 +1,18 @@
 /**
- * leavePlateaus (src/fit/fitModel.ts): a search that stopped with a coordinate
- * far out on the logistic transform's plateau, where the gradient vanishes,
- * is continued from inside when the interior does better, and left alone
- * when the bound really is best.
+ * How a fit's start ends (src/fit/fitModel.ts).
+ * - leavePlateaus: a search that stopped with a coordinate far out on the
+ *   logistic transform's plateau, where the gradient vanishes, is continued
+ *   from inside when the interior does better, and left alone when the bound
+ *   really is best.
+ * - A start that reaches an optimum an earlier start converged to stops there
+ *   (bfgs's stopAt) and is recorded at that optimum.
  *
  * The objectives are written in θ = σ(z) (the logit transform of a parameter
  * on (0, 1)), so their minima are known exactly.
  */
 import { describe, it, expect } from 'vitest';
-import { leavePlateaus } from '../src/fit/fitModel.js';
+import { fitModel, leavePlateaus } from '../src/fit/fitModel.js';
+import { model, simulate } from './helpers/fitFixtures.js';
 import { bfgs, type MinimizeResult } from '../src/numerics/optimize.js';
 
 const sigma = (z: number) => 1 / (1 + Math.exp(-z));
@@ -53,5 +57,34 @@ describe('a parameter stopped on its bound plateau', () => {
     const f = (z: readonly number[]) => (z[0] - 1) ** 2 + (z[1] + 2) ** 2;
     const start = stoppedAt(f, [1, -2]);
     expect(leavePlateaus(f, start, 400)).toEqual(start);
+  });
+});
+
+describe('a start that reaches an optimum an earlier start found', () => {
+  it('stops there, is recorded at that optimum, and says which start it joined', () => {
+    const m = model({ loss: { family: 'squared' }, noise: { family: 'constant', sd: 5 } });
+    const fit = fitModel(m, simulate(m, 300, 'join/squared'), { starts: 4, skipUncertainty: true });
+    const joined = fit.starts.filter((s) => /reached the optimum of start \d/.test(s.reason));
+    expect(joined.length).toBeGreaterThan(0);
+    for (const s of joined) {
+      const k = Number(/start (\d+)/.exec(s.reason)![1]);
+      expect(k).toBeLessThan(fit.starts.indexOf(s) + 1);
+      expect(s.negLogLik).toBe(fit.starts[k - 1].negLogLik);
+      expect(s.converged).toBe(true);
+    }
+    expect(-fit.logLikelihood).toBe(Math.min(...fit.starts.map((s) => s.negLogLik)));
+  });
+});
+
+describe('bfgs stopAt', () => {
+  it('ends the search at the first accepted point it names, as converged, with its reason', () => {
+    const f = (z: readonly number[]) => (z[0] - 3) ** 2 + (z[1] + 1) ** 2;
+    const seen: number[] = [];
+    const r = bfgs(f, [0, 0], { stopAt: (x, fx) => (seen.push(fx), fx < 1 ? `close at ${x[0].toFixed(2)}` : null) });
+    expect(r.converged).toBe(true);
+    expect(r.reason).toMatch(/^close at /);
+    expect(r.value).toBeLessThan(1);
+    expect(seen.filter((v) => v < 1)).toHaveLength(1);
+    expect(bfgs(f, [0, 0]).evaluations).toBeGreaterThan(r.evaluations);
   });
 });
