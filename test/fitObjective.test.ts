@@ -2,8 +2,8 @@
  * The fit's objective reuses work between nearby points (src/fit/fitModel.ts):
  * the lapse-free terms across probes along the lapse rate (exactly what a
  * fresh evaluation gives), and the estimate curves across probes along the
- * motor sd (the same wherever refinement would choose the same nodes, as in
- * these cases). The reference is lapseFreeTerms / the objective built anew
+ * motor sd (the same wherever refinement would choose the same nodes, and
+ * within the curve's interpolation error where it would not). The reference is lapseFreeTerms / the objective built anew
  * for the probe point alone.
  */
 import { describe, it, expect } from 'vitest';
@@ -18,33 +18,33 @@ const cases = [
 ];
 
 const sameNodes = (a: Float64Array, b: Float64Array) => a.length === b.length && a.every((v, i) => v === b[i]);
-let sameSeen = false;
 
 describe('work shared between nearby points of a fit', () => {
-  it.each(cases)('$name: a curve built at σm serves σm·(1 ± 0.5%) exactly as a fresh one', ({ loss }) => {
-    const m = model({ loss, noise: { family: 'constant', sd: 5 } });
-    const data = simulate(m, 300, `objective/${loss.family}`);
-    const obs = observerFromValues(m, m.base);
-    const base = lapseFreeTerms(obs, data);
-    expect(base.curves[0]).not.toBeNull();
-    for (const factor of [0.995, 1.005]) {
-      const probe = { ...obs, motorSd: obs.motorSd * factor };
-      const reused = lapseFreeTerms(probe, data, base.curves);
-      const fresh = lapseFreeTerms(probe, data);
-      expect(reused.curves[0]).toBe(base.curves[0]);
-      expect(fresh.curves[0]).not.toBe(base.curves[0]);
-      // The refinement tolerance moved by 0.5%. Where refinement picks the same nodes, the same
-      // likelihood; where the move flips a node's test, the two curves differ by their
-      // interpolation error (each within the tolerance), measured below 2e-5 nats.
-      const same = sameNodes(fresh.curves[0]!.v, base.curves[0]!.v);
-      const diff = Math.abs(logLikelihoodFromTerms(reused, obs.lapseRate) - logLikelihoodFromTerms(fresh, obs.lapseRate));
-      expect(diff).toBeLessThanOrEqual(same ? 1e-9 : 1e-4);
-      sameSeen ||= same;
+  it('a curve built at σm serves σm·(1 ± 0.5%) as a fresh one: exactly where refinement picks the same nodes', () => {
+    let sameSeen = 0;
+    for (const { loss } of cases) {
+      const m = model({ loss, noise: { family: 'constant', sd: 5 } });
+      const data = simulate(m, 300, `objective/${loss.family}`);
+      const obs = observerFromValues(m, m.base);
+      const base = lapseFreeTerms(obs, data);
+      expect(base.curves[0]).not.toBeNull();
+      for (const factor of [0.995, 1.005]) {
+        const probe = { ...obs, motorSd: obs.motorSd * factor };
+        const reused = lapseFreeTerms(probe, data, base.curves);
+        const fresh = lapseFreeTerms(probe, data);
+        expect(reused.curves[0]).toBe(base.curves[0]);
+        expect(fresh.curves[0]).not.toBe(base.curves[0]);
+        // The refinement tolerance moved by 0.5%. Where refinement picks the same nodes, the same
+        // likelihood; where the move flips a node's test (hit-or-miss at ×1.005), the two curves
+        // differ by their interpolation error, each within the tolerance: measured 1.7e-5 nats.
+        const same = sameNodes(fresh.curves[0]!.v, base.curves[0]!.v);
+        const diff = Math.abs(logLikelihoodFromTerms(reused, obs.lapseRate) - logLikelihoodFromTerms(fresh, obs.lapseRate));
+        expect(diff).toBeLessThanOrEqual(same ? 1e-9 : 1e-4);
+        if (same) sameSeen++;
+      }
     }
-  });
-
-  it('at least one of those probes met the same nodes (so the exact branch above was exercised)', () => {
-    expect(sameSeen).toBe(true);
+    // The exact branch above must have run (power p = 1.6 keeps its nodes at both factors).
+    expect(sameSeen).toBeGreaterThanOrEqual(2);
   });
 
   it('a chain of small motor-sd steps does not carry a curve beyond 1% of where it was built', () => {

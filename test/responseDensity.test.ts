@@ -423,10 +423,12 @@ describe('(d) logLikelihood is smooth along a parameter line (no steps)', () => 
   // catches a 1e−3 step (checked below by planting one), while the raw second differences of L
   // (3.5e−3 from curvature alone) would not separate them.
   //
-  // Lines that failed this at commit e2e6f0e (gamma(3, 5) with constant noise 2 and squared
-  // loss along the motor sd; log-normal(2.5, 0.5) with log-space noise and hit-or-miss, or Weber
-  // noise and absolute loss; gamma(3, 5) with generalized noise and squared loss; a bimodal
-  // mixture with hit-or-miss) measured 0.4–5e−5 by the time the power line below was added.
+  // Lines that failed this at commit e2e6f0e: gamma(3, 5) with constant noise 2 and squared loss
+  // along the motor sd; log-normal(2.5, 0.5) with log-space noise and hit-or-miss, or Weber noise
+  // and absolute loss; gamma(3, 5) with generalized noise and squared loss. They measure 5e−6 to
+  // 2.6e−5 now (scale and lapse rate as reconstructed). Still failing, left out and reported: a
+  // bimodal mixture, constant noise sd 1 → 1.6, hit-or-miss 0.3, motor sd 0.5: 2.3–3.1e−3 (the
+  // jumping estimate's break moves with the noise sd; unchanged by the quarter-point check).
   const threshold = 1e-4;
   const lines: [string, (v: number) => Observer, number, number][] = [
     [

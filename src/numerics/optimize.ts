@@ -393,6 +393,7 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       // Roundoff can make H indefinite in effect; steepest descent is always a descent direction.
       H = identity(n);
       rawIdentity = true;
+      tooShort = false;
       p = g.map((v) => -v);
       slope = -dot(g, g);
       if (!(slope < 0)) return obj.result(false, 'gradient unavailable: no finite neighbours');
@@ -426,8 +427,9 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       // its optimum, measured), y·s ≤ 0 at every step, the update is skipped and
       // the search crept along p for 60 iterations at t = 1. Doubling the step
       // while it keeps decreasing f crosses such a stretch in a few evaluations.
-      // It runs only after such a step, so it never acts near a minimum, where
-      // y·s > 0.
+      // It runs only after such a step; near a minimum y·s > 0 except where
+      // gradient noise says otherwise, and there a refused doubling costs one
+      // evaluation. (Never after an identity reset: that step is capped.)
       for (let grow = 0; grow < MAX_GROWTH; grow++) {
         const t2 = 2 * t;
         const xt = x.map((v, i) => v + t2 * p[i]);
@@ -442,6 +444,7 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       if (!rawIdentity) {
         H = identity(n);
         rawIdentity = true;
+        tooShort = false;
         continue;
       }
       return obj.result(false, 'line search could not decrease the objective');
@@ -488,6 +491,7 @@ export function bfgs(f: Objective, x0: readonly number[], options: MinimizeOptio
       if (!rawIdentity) {
         H = identity(n);
         rawIdentity = true;
+        tooShort = false;
         continue;
       }
       return obj.result(false, 'stalled: line search kept cutting steps (non-finite region in the way?)');
