@@ -273,13 +273,16 @@ export class GridPosterior {
     const max = this.evaluateWindow(m);
     const [first, last] = this.massWindow(max, this.winA, this.winB);
     const thr = max - LOG_CUTOFF;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const x = this.x;
     let z = 0;
     let s = 0;
     for (let j = first; j <= last; j++) {
-      const v = this.logVal[j];
-      const mj = (v >= thr ? expNeg(max - v) : 0) * this.quadWeight[j];
+      const v = logVal[j];
+      const mj = (v >= thr ? expNeg(max - v) : 0) * w[j];
       z += mj;
-      s += mj * this.x[j];
+      s += mj * x[j];
     }
     this.first = 0;
     this.last = -1;
@@ -365,11 +368,17 @@ export class GridPosterior {
   }
 
   private evaluate(m: number, a: number, b: number): number {
+    // Locals: V8 does not hoist the fields' loads past the stores into logVal.
+    const center = this.center;
+    const invSd = this.invSd;
+    const logBase = this.logBase;
+    const logSd = this.logSd;
+    const logVal = this.logVal;
     let max = -Infinity;
     for (let j = a; j <= b; j++) {
-      const d = (m - this.center[j]) * this.invSd[j];
-      const v = this.logBase[j] - 0.5 * d * d - this.logSd[j];
-      this.logVal[j] = v;
+      const d = (m - center[j]) * invSd[j];
+      const v = logBase[j] - 0.5 * d * d - logSd[j];
+      logVal[j] = v;
       if (v > max) max = v;
     }
     return max;
@@ -466,13 +475,18 @@ export class GridPosterior {
     const n = NODES_PER_PANEL;
     this.first = first;
     this.last = last;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const f = this.f;
+    const mass = this.mass;
+    const cum = this.cum;
     let z = 0;
     for (let j = first; j <= last; j++) {
-      const v = this.logVal[j];
+      const v = logVal[j];
       const e = v >= thr ? expNeg(max - v) : 0;
-      this.f[j] = e;
-      const mj = e * this.quadWeight[j];
-      this.mass[j] = mj;
+      f[j] = e;
+      const mj = e * w[j];
+      mass[j] = mj;
       z += mj;
     }
     const inv = 1 / z;
@@ -480,18 +494,18 @@ export class GridPosterior {
     const pl = (last + 1) / n - 1;
     let acc = 0;
     for (let p = pf; p <= pl; p++) {
-      this.cum[p] = acc;
+      cum[p] = acc;
       let s = 0;
       const base = p * n;
       for (let j = base; j < base + n; j++) {
-        this.f[j] *= inv;
-        const mj = this.mass[j] * inv;
-        this.mass[j] = mj;
+        f[j] *= inv;
+        const mj = mass[j] * inv;
+        mass[j] = mj;
         s += mj;
       }
       acc += s;
     }
-    this.cum[pl + 1] = acc;
+    cum[pl + 1] = acc;
     this.stamp++;
   }
 
@@ -508,10 +522,12 @@ export class GridPosterior {
     const off = p * n;
     if (this.coefStamp[p] === this.stamp) return off;
     const T = this.transform;
+    const f = this.f;
+    const coef = this.coef;
     for (let k = 0; k < n; k++) {
       let s = 0;
-      for (let i = 0; i < n; i++) s += T[k * n + i] * this.f[off + i];
-      this.coef[off + k] = s;
+      for (let i = 0; i < n; i++) s += T[k * n + i] * f[off + i];
+      coef[off + k] = s;
     }
     this.coefStamp[p] = this.stamp;
     return off;
