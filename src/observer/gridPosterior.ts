@@ -31,6 +31,10 @@ const WINDOW_U = 14;
 /** Half-width, in noise sds, of the first window of a unimodal posterior (grown by panels as needed). */
 const START_U = 7;
 const MAX_NODES = 20000;
+/** Legendre recurrence constants: P_{k+1} = REC_A[k]·t·P_k − REC_B[k]·P_{k−1}, and 1/(2k+1). */
+const REC_A = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => (2 * k + 1) / (k + 1));
+const REC_B = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => k / (k + 1));
+const INV_ODD = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => 1 / (2 * k + 1));
 
 export interface GridSetup {
   prior: Distribution;
@@ -74,6 +78,8 @@ export class GridPosterior {
   readonly cum: Float64Array;
   private readonly coef: Float64Array;
   private readonly coefStamp: Int32Array;
+  /** Scratch: one panel's coefficients divided by 2k+1 (the cdf's terms). */
+  private readonly coefInt = new Float64Array(NODES_PER_PANEL);
   private stamp = 0;
   first = 0;
   last = -1;
@@ -630,6 +636,58 @@ export class GridPosterior {
    */
   quantile(tau: number, hint = NaN): number {
     if (this.pending) this.settle();
+    return this.quantileOfMass(tau, hint);
+  }
+
+  /**
+   * The τ-quantile for measurement m, without normalising the posterior (what
+   * the absolute and asymmetric-linear losses' estimate curves need): one
+   * pass stores the unnormalised density and the panel sums, and the quantile
+   * is sought at τ times their total; the same nodes as setMeasurement then
+   * quantile, equal to rounding. Leaves no posterior set: call setMeasurement
+   * before anything else.
+   */
+  quantileAt(m: number, tau: number, hint = NaN): number {
+    this.pending = false;
+    const max = this.evaluateWindow(m);
+    const [first, last] = this.massWindow(max, this.winA, this.winB);
+    const thr = max - LOG_CUTOFF;
+    const n = NODES_PER_PANEL;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const f = this.f;
+    const cum = this.cum;
+    const pf = first / n;
+    const pl = (last + 1) / n - 1;
+    let acc = 0;
+    for (let p = pf; p <= pl; p++) {
+      cum[p] = acc;
+      let s = 0;
+      for (let j = p * n, e = j + n; j < e; j++) {
+        const v = logVal[j];
+        const fj = v >= thr ? expNeg(max - v) : 0;
+        f[j] = fj;
+        s += fj * w[j];
+      }
+      acc += s;
+    }
+    cum[pl + 1] = acc;
+    this.first = first;
+    this.last = last;
+    this.stamp++;
+    const q = this.quantileOfMass(tau * acc, hint);
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    return q;
+  }
+
+  /**
+   * Where the cumulative mass reaches `target`, in the scale of cum and f
+   * (normalised: target = τ), by Newton's iteration on the panel's Legendre
+   * series, started from `hint` when it lies in that panel.
+   */
+  private quantileOfMass(tau: number, hint: number): number {
     const n = NODES_PER_PANEL;
     let lo = this.firstPanel;
     let hi = this.lastPanel;
@@ -651,16 +709,20 @@ export class GridPosterior {
       if (th > -1 && th < 1) t = th;
     }
     const c = this.coef;
+    // ∫P_k = (P_{k+1} − P_{k−1})/(2k+1): the division by 2k+1 done once per coefficient, not per iteration.
+    const ci = this.coefInt;
+    for (let k = 1; k < n; k++) ci[k] = c[off + k] * INV_ODD[k];
     for (let it = 0; it < 60; it++) {
       // The panel's cdf and density at t in one pass of the Legendre recurrence
-      // (the same terms as legendreIntegral and legendreValue, so the same values).
+      // (the terms of legendreIntegral and legendreValue, with reciprocals
+      // multiplied where those divide: equal to rounding).
       let pm1 = 1;
       let pk = t;
       let g = c[off] * (t + 1);
       let d = c[off] + c[off + 1] * t;
       for (let k = 1; k < n; k++) {
-        const pNext = ((2 * k + 1) * t * pk - k * pm1) / (k + 1);
-        g += (c[off + k] * (pNext - pm1)) / (2 * k + 1);
+        const pNext = REC_A[k] * t * pk - REC_B[k] * pm1;
+        g += ci[k] * (pNext - pm1);
         if (k + 1 < n) d += c[off + k + 1] * pNext;
         pm1 = pk;
         pk = pNext;
