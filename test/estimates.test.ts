@@ -732,6 +732,12 @@ describe('estimateAt (a loss conditioning the posterior itself) equals setMeasur
         // The grid estimateAt used gives the plain answer again once conditioned (no stale panel coefficients).
         a.setMeasurement(m);
         expect(loss.estimate(a, NaN)).toBe(plain);
+        // With a hint, as the estimate curve passes (hit-or-miss then climbs to the mode node from it).
+        for (const hint of [plain + 0.01, plain - 0.3]) {
+          const hinted = loss.estimateAt!(a, m, hint);
+          b.setMeasurement(m);
+          expect(Math.abs(hinted - loss.estimate(b, hint))).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(plain)));
+        }
       }
     }
   });

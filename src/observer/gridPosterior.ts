@@ -66,6 +66,8 @@ export class GridPosterior {
   /** dx/du at each node. */
   readonly jac: Float64Array;
   private readonly logJac: Float64Array;
+  /** dx/du is the same at every node (a linear warp): densities in u and x peak at the same node. */
+  private readonly constantJac: boolean;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;
   private readonly logSd: Float64Array;
@@ -204,6 +206,7 @@ export class GridPosterior {
     let lastLogSd = NaN;
     let lastJac = NaN;
     let lastLogJac = NaN;
+    let jacChanges = 0;
     for (let p = 0; p < this.nPanels; p++) {
       const mid = this.panelStart[p] + this.panelHalf[p];
       for (let i = 0; i < n; i++) {
@@ -216,6 +219,7 @@ export class GridPosterior {
         const jac = warp.dxdu(uj);
         this.jac[j] = jac;
         if (jac !== lastJac) {
+          jacChanges++;
           lastJac = jac;
           lastLogJac = Math.log(jac);
         }
@@ -231,6 +235,7 @@ export class GridPosterior {
         this.logSd[j] = lastLogSd;
       }
     }
+    this.constantJac = jacChanges === 1;
   }
 
   /** Condition on measurement m (in the noise's measurement space). */
@@ -449,6 +454,59 @@ export class GridPosterior {
         j = i;
       }
     }
+    return j;
+  }
+
+  /**
+   * For a unimodal posterior with a linear warp: condition on m for the exact
+   * density only, and find the node modeNodeX would give by climbing from the
+   * node at xStart, evaluating only the nodes passed (the log density at the
+   * nodes rises to one peak and falls; ties, possible only at the top, go to
+   * the first node, as in modeNodeX). Returns −1, with nothing learnt, where
+   * the climb cannot vouch for that: a warp that is not linear, an end
+   * node, a start outside the support, or a neighbour of the peak near the
+   * cutoff (the windowed methods might not see it).
+   * Leaves no posterior set, as meanAt: only exactLogDensity and the node
+   * positions may be read afterwards.
+   */
+  climbToModeNode(m: number, xStart: number): number {
+    this.pending = false;
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    this.measurement = m;
+    this.exactAvailable = true;
+    const J = this.nNodes;
+    if (!this.constantJac) return -1;
+    // Compared as modeNodeX compares them (log density minus log dx/du), so ties round alike.
+    const lj = this.logJac[0];
+    const h = (k: number) => this.evaluate(m, k, k) - lj;
+    let j = this.nodeAtOrAbove(this.warp.toU(xStart));
+    if (!(j >= 1 && j <= J - 2)) return -1;
+    let v = h(j);
+    if (!(v > -Infinity)) return -1;
+    let right = h(j + 1);
+    if (right > v) {
+      do {
+        j++;
+        v = right;
+        if (j === J - 1) return -1;
+        right = h(j + 1);
+      } while (right > v);
+    } else {
+      let left = h(j - 1);
+      while (left >= v) {
+        j--;
+        v = left;
+        if (j === 0) return -1;
+        left = h(j - 1);
+      }
+    }
+    // Both neighbours are evaluated now (the climb passed one, the last comparison the other).
+    // A cutoff one unit inside the windowed methods' (whose peak may differ from node j's by rounding).
+    const logVal = this.logVal;
+    const thr = logVal[j] - (LOG_CUTOFF - 1);
+    if (!(logVal[j - 1] >= thr && logVal[j + 1] >= thr)) return -1;
     return j;
   }
 
