@@ -207,32 +207,36 @@ export class GridPosterior {
     let lastJac = NaN;
     let lastLogJac = NaN;
     let jacChanges = 0;
-    for (let p = 0; p < this.nPanels; p++) {
-      const mid = this.panelStart[p] + this.panelHalf[p];
+    const { u, x, quadWeight, jac: jacs, logJac, logBase, center, invSd, logSd, panelStart, panelHalf } = this;
+    const glNodes = gl.nodes;
+    const glWeights = gl.weights;
+    for (let p = 0; p < P; p++) {
+      const half = panelHalf[p];
+      const mid = panelStart[p] + half;
       for (let i = 0; i < n; i++) {
         const j = p * n + i;
-        const uj = mid + this.panelHalf[p] * gl.nodes[i];
+        const uj = mid + half * glNodes[i];
         const xj = warp.fromU(uj);
-        this.u[j] = uj;
-        this.x[j] = xj;
-        this.quadWeight[j] = this.panelHalf[p] * gl.weights[i];
+        u[j] = uj;
+        x[j] = xj;
+        quadWeight[j] = half * glWeights[i];
         const jac = warp.dxdu(uj);
-        this.jac[j] = jac;
+        jacs[j] = jac;
         if (jac !== lastJac) {
           jacChanges++;
           lastJac = jac;
           lastLogJac = Math.log(jac);
         }
-        this.logJac[j] = lastLogJac;
-        this.logBase[j] = prior.logPdf(xj) + lastLogJac;
-        this.center[j] = noise.center(xj);
+        logJac[j] = lastLogJac;
+        logBase[j] = prior.logPdf(xj) + lastLogJac;
+        center[j] = noise.center(xj);
         const sd = noise.sdAt(xj);
         if (sd !== lastSd) {
           lastSd = sd;
           lastLogSd = Math.log(sd);
         }
-        this.invSd[j] = 1 / sd;
-        this.logSd[j] = lastLogSd;
+        invSd[j] = 1 / sd;
+        logSd[j] = lastLogSd;
       }
     }
     this.constantJac = jacChanges === 1;
@@ -281,6 +285,10 @@ export class GridPosterior {
    */
   meanAt(m: number): number {
     this.pending = false;
+    if (this.unimodal) {
+      const mean = this.unimodalMeanAt(m);
+      if (mean === mean) return mean;
+    }
     const max = this.evaluateWindow(m);
     const [first, last] = this.massWindow(max, this.winA, this.winB);
     const thr = max - LOG_CUTOFF;
@@ -294,6 +302,69 @@ export class GridPosterior {
       const mj = (v >= thr ? expNeg(max - v) : 0) * w[j];
       z += mj;
       s += mj * x[j];
+    }
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    return s / z;
+  }
+
+  /**
+   * meanAt for a unimodal posterior in one pass: climb from the likelihood
+   * peak to the node of largest log density (the node values rise to one peak
+   * and fall), then walk out from it each way, summing as it goes, until the
+   * first node below the cutoff. The nodes summed are those the windowed path
+   * sums (every node within LOG_CUTOFF of the peak), each with the same
+   * weight; only the order of the sums differs (rounding). NaN when the
+   * likelihood peak has no position in u (the windowed path then decides).
+   */
+  private unimodalMeanAt(m: number): number {
+    const uPeak = this.warp.toU(this.noise.stimulusAt(m));
+    if (!Number.isFinite(uPeak)) return NaN;
+    this.measurement = m;
+    this.exactAvailable = true;
+    const J = this.nNodes;
+    const center = this.center;
+    const invSd = this.invSd;
+    const logBase = this.logBase;
+    const logSd = this.logSd;
+    const w = this.quadWeight;
+    const x = this.x;
+    const at = (k: number): number => {
+      const d = (m - center[k]) * invSd[k];
+      return logBase[k] - 0.5 * d * d - logSd[k];
+    };
+    let j = Math.min(J - 1, this.nodeAtOrAbove(uPeak));
+    let max = at(j);
+    for (let k = j + 1; k < J; k++) {
+      const v = at(k);
+      if (!(v > max)) break;
+      max = v;
+      j = k;
+    }
+    for (let k = j - 1; k >= 0; k--) {
+      const v = at(k);
+      if (!(v > max)) break;
+      max = v;
+      j = k;
+    }
+    if (!(max > -Infinity)) return NaN;
+    const thr = max - LOG_CUTOFF;
+    let z = 0;
+    let s = 0;
+    for (let k = j; k < J; k++) {
+      const v = at(k);
+      if (!(v >= thr)) break;
+      const mk = expNeg(max - v) * w[k];
+      z += mk;
+      s += mk * x[k];
+    }
+    for (let k = j - 1; k >= 0; k--) {
+      const v = at(k);
+      if (!(v >= thr)) break;
+      const mk = expNeg(max - v) * w[k];
+      z += mk;
+      s += mk * x[k];
     }
     this.first = 0;
     this.last = -1;
