@@ -270,12 +270,19 @@ export class ConditionResponse {
     const E = this.exps;
     const { winC: c, winK0: k0, winK1: k1 } = this;
     const up = g.runUp[run] === 1;
-    // First node with x̂ at or past r, and the last node with m at or below c.
-    const kc = g.crossing(r, k0, k1 + 1, up);
-    let ks = kc;
-    if (ks > k1) ks = k1;
+    // The last node with m at or below c, and the first node with x̂ at or past r (as
+    // g.crossing defines it), each by walking: both are usually a few nodes from the
+    // window's middle, where a bisection over the window took as long as the sum.
+    let ks = (k0 + k1) >> 1;
     while (ks > k0 && M[ks] > c) ks--;
     while (ks < k1 && M[ks + 1] <= c) ks++;
+    let kc = ks;
+    if (up ? X[kc] < r : X[kc] > r) {
+      do kc++;
+      while (kc <= k1 && (up ? X[kc] < r : X[kc] > r));
+    } else {
+      while (kc > k0 && !(up ? X[kc - 1] < r : X[kc - 1] > r)) kc--;
+    }
     let lo = Math.max(k0, Math.min(kc - 1, ks));
     let hi = Math.min(k1, Math.max(kc, ks + 1));
     let emin = Infinity;
