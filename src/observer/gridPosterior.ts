@@ -35,6 +35,12 @@ const MAX_NODES = 20000;
 const REC_A = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => (2 * k + 1) / (k + 1));
 const REC_B = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => k / (k + 1));
 const INV_ODD = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => 1 / (2 * k + 1));
+/**
+ * Scratch shared by every grid: one panel's coefficients divided by 2k+1 (the
+ * cdf's terms), filled and read within one quantile call. Per grid it was an
+ * allocation per evaluation (typed arrays over 64 bytes get their own buffer).
+ */
+const COEF_INT = new Float64Array(NODES_PER_PANEL);
 
 export interface GridSetup {
   prior: Distribution;
@@ -80,8 +86,6 @@ export class GridPosterior {
   readonly cum: Float64Array;
   private readonly coef: Float64Array;
   private readonly coefStamp: Int32Array;
-  /** Scratch: one panel's coefficients divided by 2k+1 (the cdf's terms). */
-  private readonly coefInt = new Float64Array(NODES_PER_PANEL);
   private stamp = 0;
   first = 0;
   last = -1;
@@ -839,7 +843,7 @@ export class GridPosterior {
     }
     const c = this.coef;
     // ∫P_k = (P_{k+1} − P_{k−1})/(2k+1): the division by 2k+1 done once per coefficient, not per iteration.
-    const ci = this.coefInt;
+    const ci = COEF_INT;
     for (let k = 1; k < n; k++) ci[k] = c[off + k] * INV_ODD[k];
     for (let it = 0; it < 60; it++) {
       // The panel's cdf and density at t in one pass of the Legendre recurrence
