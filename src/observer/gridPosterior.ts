@@ -864,7 +864,10 @@ export class GridPosterior {
       if (g > 0) b = t;
       else a = t;
       let next = d > 0 ? t - g / d : NaN;
-      const newton = next > a && next < b;
+      // A closed bracket: at convergence g/d is below half an ulp of t, and t, just
+      // made a bracket end, is the Newton point itself (an open bracket sent those
+      // to bisection, 20 to 50 steps back down to the same root).
+      const newton = next >= a && next <= b;
       if (!newton) next = 0.5 * (a + b);
       const step = Math.abs(next - t);
       t = next;
