@@ -74,6 +74,9 @@ export class GridPosterior {
   private readonly logJac: Float64Array;
   /** dx/du is the same at every node (a linear warp): densities in u and x peak at the same node. */
   private readonly constantJac: boolean;
+  /** The noise sd is the same at every node (constant noise): its inverse and log, else NaN. */
+  private readonly constInvSd: number;
+  private readonly constLogSd: number;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;
   private readonly logSd: Float64Array;
@@ -211,6 +214,7 @@ export class GridPosterior {
     let lastJac = NaN;
     let lastLogJac = NaN;
     let jacChanges = 0;
+    let sdChanges = 0;
     const { u, x, quadWeight, jac: jacs, logJac, logBase, center, invSd, logSd, panelStart, panelHalf } = this;
     const glNodes = gl.nodes;
     const glWeights = gl.weights;
@@ -236,6 +240,7 @@ export class GridPosterior {
         center[j] = noise.center(xj);
         const sd = noise.sdAt(xj);
         if (sd !== lastSd) {
+          sdChanges++;
           lastSd = sd;
           lastLogSd = Math.log(sd);
         }
@@ -244,6 +249,8 @@ export class GridPosterior {
       }
     }
     this.constantJac = jacChanges === 1;
+    this.constInvSd = sdChanges === 1 ? 1 / lastSd : NaN;
+    this.constLogSd = sdChanges === 1 ? lastLogSd : NaN;
   }
 
   /** Condition on measurement m (in the noise's measurement space). */
@@ -356,6 +363,31 @@ export class GridPosterior {
     const thr = max - LOG_CUTOFF;
     let z = 0;
     let s = 0;
+    const iSd = this.constInvSd;
+    if (iSd === iSd) {
+      // Constant noise: the same values as at(k), the sd's inverse and log held in registers.
+      const lSd = this.constLogSd;
+      for (let k = j; k < J; k++) {
+        const d = (m - center[k]) * iSd;
+        const v = logBase[k] - 0.5 * d * d - lSd;
+        if (!(v >= thr)) break;
+        const mk = expNeg(max - v) * w[k];
+        z += mk;
+        s += mk * x[k];
+      }
+      for (let k = j - 1; k >= 0; k--) {
+        const d = (m - center[k]) * iSd;
+        const v = logBase[k] - 0.5 * d * d - lSd;
+        if (!(v >= thr)) break;
+        const mk = expNeg(max - v) * w[k];
+        z += mk;
+        s += mk * x[k];
+      }
+      this.first = 0;
+      this.last = -1;
+      this.stamp++;
+      return s / z;
+    }
     for (let k = j; k < J; k++) {
       const v = at(k);
       if (!(v >= thr)) break;
@@ -461,6 +493,17 @@ export class GridPosterior {
     const logSd = this.logSd;
     const logVal = this.logVal;
     let max = -Infinity;
+    const iSd = this.constInvSd;
+    if (iSd === iSd) {
+      const lSd = this.constLogSd;
+      for (let j = a; j <= b; j++) {
+        const d = (m - center[j]) * iSd;
+        const v = logBase[j] - 0.5 * d * d - lSd;
+        logVal[j] = v;
+        if (v > max) max = v;
+      }
+      return max;
+    }
     for (let j = a; j <= b; j++) {
       const d = (m - center[j]) * invSd[j];
       const v = logBase[j] - 0.5 * d * d - logSd[j];
