@@ -295,6 +295,29 @@ export class ConditionResponse {
     }
     const lim = emin + CUT;
     let sum = 0;
+    const wc = g.regularWeight;
+    if (wc === wc) {
+      // Every node here has the same weight (a linear warp): it multiplies the sum once.
+      for (let k = lo; k <= hi; k++) {
+        const e = E[k];
+        if (e <= lim) sum += expNeg(e - emin);
+      }
+      for (let k = lo - 1; k >= k0; k--) {
+        const zm = (M[k] - c) * invSd;
+        const z = (r - X[k]) * invSm;
+        const e = 0.5 * (zm * zm + z * z);
+        if (e > lim) break;
+        sum += expNeg(e - emin);
+      }
+      for (let k = hi + 1; k <= k1; k++) {
+        const zm = (M[k] - c) * invSd;
+        const z = (r - X[k]) * invSm;
+        const e = 0.5 * (zm * zm + z * z);
+        if (e > lim) break;
+        sum += expNeg(e - emin);
+      }
+      return wc * sum * Math.exp(-emin) * invSd * invSm * INV_2PI;
+    }
     for (let k = lo; k <= hi; k++) {
       const e = E[k];
       if (e <= lim) sum += W[k] * expNeg(e - emin);
