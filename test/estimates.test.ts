@@ -708,6 +708,8 @@ describe('estimateAt (a loss conditioning the posterior itself) equals setMeasur
   const losses: [string, LossFunction][] = [
     ['squared', squaredLoss],
     ['hit-or-miss 1', hitOrMissLoss(1)],
+    ['absolute', absoluteLoss],
+    ['asymmetric-linear 0.8', asymmetricLinearLoss(0.8)],
   ];
   const posts: [string, Distribution, SensoryNoise][] = [
     ['gamma, constant (unimodal)', new Gamma(2, 9), new ConstantNoise(6)],
@@ -727,6 +729,15 @@ describe('estimateAt (a loss conditioning the posterior itself) equals setMeasur
         b.setMeasurement(m);
         const plain = loss.estimate(b, NaN);
         expect(Math.abs(direct - plain)).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(plain)));
+        // The grid estimateAt used gives the plain answer again once conditioned (no stale panel coefficients).
+        a.setMeasurement(m);
+        expect(loss.estimate(a, NaN)).toBe(plain);
+        // With a hint, as the estimate curve passes (hit-or-miss then climbs to the mode node from it).
+        for (const hint of [plain + 0.01, plain - 0.3]) {
+          const hinted = loss.estimateAt!(a, m, hint);
+          b.setMeasurement(m);
+          expect(Math.abs(hinted - loss.estimate(b, hint))).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(plain)));
+        }
       }
     }
   });

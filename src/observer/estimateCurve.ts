@@ -23,6 +23,8 @@ import { segmentIndex } from '../numerics/search.js';
  */
 export const CURVE_STEP = 2;
 const EMPTY_F64: Float64Array<ArrayBufferLike> = new Float64Array(0);
+/** refine's node, value, slope and break arrays (grown as needed, never shrunk). */
+const scratch = { cap: 0, v: EMPTY_F64, x: EMPTY_F64, sl: EMPTY_F64, b: new Uint8Array(0) };
 /** Step in v for curves given in closed form (log-linear), which are not refined. */
 const CLOSED_FORM_STEP = 0.25;
 
@@ -128,24 +130,22 @@ export class EstimateCurve {
     const tol = Math.max(REFINE_TOL * this.obs.motorSd, 1e-7 * big);
     let brk = new Array(vs.length).fill(0);
     let check = new Array(vs.length).fill(1); // check[i]: segment i still to be tested
-    // Scratch reused across rounds (typed arrays of this size live off the heap,
-    // and a fresh set per round cost more than the bookkeeping they serve).
-    let cap = 0;
-    let v = EMPTY_F64;
-    let x = EMPTY_F64;
-    let sl = EMPTY_F64;
-    let b = new Uint8Array(0);
     const passed: number[] = [];
+    // Scratch shared by every curve and round (typed arrays of this size live off the
+    // heap, and a fresh set per curve or round cost more than the bookkeeping they
+    // serve); refine never runs inside another refine.
     for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
       const len = vs.length;
-      if (len > cap) {
-        cap = Math.max(2 * cap, 2 * len + 16);
+      if (len > scratch.cap) {
+        const cap = Math.max(2 * scratch.cap, 2 * len + 16);
         const buffer = new ArrayBuffer(8 * 3 * cap + cap);
-        v = new Float64Array(buffer, 0, cap);
-        x = new Float64Array(buffer, 8 * cap, cap);
-        sl = new Float64Array(buffer, 16 * cap, cap);
-        b = new Uint8Array(buffer, 24 * cap, cap);
+        scratch.cap = cap;
+        scratch.v = new Float64Array(buffer, 0, cap);
+        scratch.x = new Float64Array(buffer, 8 * cap, cap);
+        scratch.sl = new Float64Array(buffer, 16 * cap, cap);
+        scratch.b = new Uint8Array(buffer, 24 * cap, cap);
       }
+      const { v, x, sl, b } = scratch;
       for (let i = 0; i < len; i++) {
         v[i] = vs[i];
         x[i] = xs[i];

@@ -31,6 +31,16 @@ const WINDOW_U = 14;
 /** Half-width, in noise sds, of the first window of a unimodal posterior (grown by panels as needed). */
 const START_U = 7;
 const MAX_NODES = 20000;
+/** Legendre recurrence constants: P_{k+1} = REC_A[k]·t·P_k − REC_B[k]·P_{k−1}, and 1/(2k+1). */
+const REC_A = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => (2 * k + 1) / (k + 1));
+const REC_B = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => k / (k + 1));
+const INV_ODD = Float64Array.from({ length: NODES_PER_PANEL }, (_, k) => 1 / (2 * k + 1));
+/**
+ * Scratch shared by every grid: one panel's coefficients divided by 2k+1 (the
+ * cdf's terms), filled and read within one quantile call. Per grid it was an
+ * allocation per evaluation (typed arrays over 64 bytes get their own buffer).
+ */
+const COEF_INT = new Float64Array(NODES_PER_PANEL);
 
 export interface GridSetup {
   prior: Distribution;
@@ -62,6 +72,11 @@ export class GridPosterior {
   /** dx/du at each node. */
   readonly jac: Float64Array;
   private readonly logJac: Float64Array;
+  /** dx/du is the same at every node (a linear warp): densities in u and x peak at the same node. */
+  private readonly constantJac: boolean;
+  /** The noise sd is the same at every node (constant noise): its inverse and log, else NaN. */
+  private readonly constInvSd: number;
+  private readonly constLogSd: number;
   private readonly center: Float64Array;
   private readonly invSd: Float64Array;
   private readonly logSd: Float64Array;
@@ -198,33 +213,44 @@ export class GridPosterior {
     let lastLogSd = NaN;
     let lastJac = NaN;
     let lastLogJac = NaN;
-    for (let p = 0; p < this.nPanels; p++) {
-      const mid = this.panelStart[p] + this.panelHalf[p];
+    let jacChanges = 0;
+    let sdChanges = 0;
+    const { u, x, quadWeight, jac: jacs, logJac, logBase, center, invSd, logSd, panelStart, panelHalf } = this;
+    const glNodes = gl.nodes;
+    const glWeights = gl.weights;
+    for (let p = 0; p < P; p++) {
+      const half = panelHalf[p];
+      const mid = panelStart[p] + half;
       for (let i = 0; i < n; i++) {
         const j = p * n + i;
-        const uj = mid + this.panelHalf[p] * gl.nodes[i];
+        const uj = mid + half * glNodes[i];
         const xj = warp.fromU(uj);
-        this.u[j] = uj;
-        this.x[j] = xj;
-        this.quadWeight[j] = this.panelHalf[p] * gl.weights[i];
+        u[j] = uj;
+        x[j] = xj;
+        quadWeight[j] = half * glWeights[i];
         const jac = warp.dxdu(uj);
-        this.jac[j] = jac;
+        jacs[j] = jac;
         if (jac !== lastJac) {
+          jacChanges++;
           lastJac = jac;
           lastLogJac = Math.log(jac);
         }
-        this.logJac[j] = lastLogJac;
-        this.logBase[j] = prior.logPdf(xj) + lastLogJac;
-        this.center[j] = noise.center(xj);
+        logJac[j] = lastLogJac;
+        logBase[j] = prior.logPdf(xj) + lastLogJac;
+        center[j] = noise.center(xj);
         const sd = noise.sdAt(xj);
         if (sd !== lastSd) {
+          sdChanges++;
           lastSd = sd;
           lastLogSd = Math.log(sd);
         }
-        this.invSd[j] = 1 / sd;
-        this.logSd[j] = lastLogSd;
+        invSd[j] = 1 / sd;
+        logSd[j] = lastLogSd;
       }
     }
+    this.constantJac = jacChanges === 1;
+    this.constInvSd = sdChanges === 1 ? 1 / lastSd : NaN;
+    this.constLogSd = sdChanges === 1 ? lastLogSd : NaN;
   }
 
   /** Condition on measurement m (in the noise's measurement space). */
@@ -270,16 +296,111 @@ export class GridPosterior {
    */
   meanAt(m: number): number {
     this.pending = false;
+    if (this.unimodal) {
+      const mean = this.unimodalMeanAt(m);
+      if (mean === mean) return mean;
+    }
     const max = this.evaluateWindow(m);
     const [first, last] = this.massWindow(max, this.winA, this.winB);
     const thr = max - LOG_CUTOFF;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const x = this.x;
     let z = 0;
     let s = 0;
     for (let j = first; j <= last; j++) {
-      const v = this.logVal[j];
-      const mj = (v >= thr ? expNeg(max - v) : 0) * this.quadWeight[j];
+      const v = logVal[j];
+      const mj = (v >= thr ? expNeg(max - v) : 0) * w[j];
       z += mj;
-      s += mj * this.x[j];
+      s += mj * x[j];
+    }
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    return s / z;
+  }
+
+  /**
+   * meanAt for a unimodal posterior in one pass: climb from the likelihood
+   * peak to the node of largest log density (the node values rise to one peak
+   * and fall), then walk out from it each way, summing as it goes, until the
+   * first node below the cutoff. The nodes summed are those the windowed path
+   * sums (every node within LOG_CUTOFF of the peak), each with the same
+   * weight; only the order of the sums differs (rounding). NaN when the
+   * likelihood peak has no position in u (the windowed path then decides).
+   */
+  private unimodalMeanAt(m: number): number {
+    const uPeak = this.warp.toU(this.noise.stimulusAt(m));
+    if (!Number.isFinite(uPeak)) return NaN;
+    this.measurement = m;
+    this.exactAvailable = true;
+    const J = this.nNodes;
+    const center = this.center;
+    const invSd = this.invSd;
+    const logBase = this.logBase;
+    const logSd = this.logSd;
+    const w = this.quadWeight;
+    const x = this.x;
+    const at = (k: number): number => {
+      const d = (m - center[k]) * invSd[k];
+      return logBase[k] - 0.5 * d * d - logSd[k];
+    };
+    let j = Math.min(J - 1, this.nodeAtOrAbove(uPeak));
+    let max = at(j);
+    for (let k = j + 1; k < J; k++) {
+      const v = at(k);
+      if (!(v > max)) break;
+      max = v;
+      j = k;
+    }
+    for (let k = j - 1; k >= 0; k--) {
+      const v = at(k);
+      if (!(v > max)) break;
+      max = v;
+      j = k;
+    }
+    if (!(max > -Infinity)) return NaN;
+    const thr = max - LOG_CUTOFF;
+    let z = 0;
+    let s = 0;
+    const iSd = this.constInvSd;
+    if (iSd === iSd) {
+      // Constant noise: the same values as at(k), the sd's inverse and log held in registers.
+      const lSd = this.constLogSd;
+      for (let k = j; k < J; k++) {
+        const d = (m - center[k]) * iSd;
+        const v = logBase[k] - 0.5 * d * d - lSd;
+        if (!(v >= thr)) break;
+        const mk = expNeg(max - v) * w[k];
+        z += mk;
+        s += mk * x[k];
+      }
+      for (let k = j - 1; k >= 0; k--) {
+        const d = (m - center[k]) * iSd;
+        const v = logBase[k] - 0.5 * d * d - lSd;
+        if (!(v >= thr)) break;
+        const mk = expNeg(max - v) * w[k];
+        z += mk;
+        s += mk * x[k];
+      }
+      this.first = 0;
+      this.last = -1;
+      this.stamp++;
+      return s / z;
+    }
+    for (let k = j; k < J; k++) {
+      const v = at(k);
+      if (!(v >= thr)) break;
+      const mk = expNeg(max - v) * w[k];
+      z += mk;
+      s += mk * x[k];
+    }
+    for (let k = j - 1; k >= 0; k--) {
+      const v = at(k);
+      if (!(v >= thr)) break;
+      const mk = expNeg(max - v) * w[k];
+      z += mk;
+      s += mk * x[k];
     }
     this.first = 0;
     this.last = -1;
@@ -365,11 +486,28 @@ export class GridPosterior {
   }
 
   private evaluate(m: number, a: number, b: number): number {
+    // Locals: V8 does not hoist the fields' loads past the stores into logVal.
+    const center = this.center;
+    const invSd = this.invSd;
+    const logBase = this.logBase;
+    const logSd = this.logSd;
+    const logVal = this.logVal;
     let max = -Infinity;
+    const iSd = this.constInvSd;
+    if (iSd === iSd) {
+      const lSd = this.constLogSd;
+      for (let j = a; j <= b; j++) {
+        const d = (m - center[j]) * iSd;
+        const v = logBase[j] - 0.5 * d * d - lSd;
+        logVal[j] = v;
+        if (v > max) max = v;
+      }
+      return max;
+    }
     for (let j = a; j <= b; j++) {
-      const d = (m - this.center[j]) * this.invSd[j];
-      const v = this.logBase[j] - 0.5 * d * d - this.logSd[j];
-      this.logVal[j] = v;
+      const d = (m - center[j]) * invSd[j];
+      const v = logBase[j] - 0.5 * d * d - logSd[j];
+      logVal[j] = v;
       if (v > max) max = v;
     }
     return max;
@@ -437,6 +575,59 @@ export class GridPosterior {
     return j;
   }
 
+  /**
+   * For a unimodal posterior with a linear warp: condition on m for the exact
+   * density only, and find the node modeNodeX would give by climbing from the
+   * node at xStart, evaluating only the nodes passed (the log density at the
+   * nodes rises to one peak and falls; ties, possible only at the top, go to
+   * the first node, as in modeNodeX). Returns −1, with nothing learnt, where
+   * the climb cannot vouch for that: a warp that is not linear, an end
+   * node, a start outside the support, or a neighbour of the peak near the
+   * cutoff (the windowed methods might not see it).
+   * Leaves no posterior set, as meanAt: only exactLogDensity and the node
+   * positions may be read afterwards.
+   */
+  climbToModeNode(m: number, xStart: number): number {
+    this.pending = false;
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    this.measurement = m;
+    this.exactAvailable = true;
+    const J = this.nNodes;
+    if (!this.constantJac) return -1;
+    // Compared as modeNodeX compares them (log density minus log dx/du), so ties round alike.
+    const lj = this.logJac[0];
+    const h = (k: number) => this.evaluate(m, k, k) - lj;
+    let j = this.nodeAtOrAbove(this.warp.toU(xStart));
+    if (!(j >= 1 && j <= J - 2)) return -1;
+    let v = h(j);
+    if (!(v > -Infinity)) return -1;
+    let right = h(j + 1);
+    if (right > v) {
+      do {
+        j++;
+        v = right;
+        if (j === J - 1) return -1;
+        right = h(j + 1);
+      } while (right > v);
+    } else {
+      let left = h(j - 1);
+      while (left >= v) {
+        j--;
+        v = left;
+        if (j === 0) return -1;
+        left = h(j - 1);
+      }
+    }
+    // Both neighbours are evaluated now (the climb passed one, the last comparison the other).
+    // A cutoff one unit inside the windowed methods' (whose peak may differ from node j's by rounding).
+    const logVal = this.logVal;
+    const thr = logVal[j] - (LOG_CUTOFF - 1);
+    if (!(logVal[j - 1] >= thr && logVal[j + 1] >= thr)) return -1;
+    return j;
+  }
+
   /** Index of the node with the highest density. */
   peakNode(): number {
     if (this.pending) this.settle();
@@ -466,13 +657,18 @@ export class GridPosterior {
     const n = NODES_PER_PANEL;
     this.first = first;
     this.last = last;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const f = this.f;
+    const mass = this.mass;
+    const cum = this.cum;
     let z = 0;
     for (let j = first; j <= last; j++) {
-      const v = this.logVal[j];
+      const v = logVal[j];
       const e = v >= thr ? expNeg(max - v) : 0;
-      this.f[j] = e;
-      const mj = e * this.quadWeight[j];
-      this.mass[j] = mj;
+      f[j] = e;
+      const mj = e * w[j];
+      mass[j] = mj;
       z += mj;
     }
     const inv = 1 / z;
@@ -480,18 +676,18 @@ export class GridPosterior {
     const pl = (last + 1) / n - 1;
     let acc = 0;
     for (let p = pf; p <= pl; p++) {
-      this.cum[p] = acc;
+      cum[p] = acc;
       let s = 0;
       const base = p * n;
       for (let j = base; j < base + n; j++) {
-        this.f[j] *= inv;
-        const mj = this.mass[j] * inv;
-        this.mass[j] = mj;
+        f[j] *= inv;
+        const mj = mass[j] * inv;
+        mass[j] = mj;
         s += mj;
       }
       acc += s;
     }
-    this.cum[pl + 1] = acc;
+    cum[pl + 1] = acc;
     this.stamp++;
   }
 
@@ -508,10 +704,12 @@ export class GridPosterior {
     const off = p * n;
     if (this.coefStamp[p] === this.stamp) return off;
     const T = this.transform;
+    const f = this.f;
+    const coef = this.coef;
     for (let k = 0; k < n; k++) {
       let s = 0;
-      for (let i = 0; i < n; i++) s += T[k * n + i] * this.f[off + i];
-      this.coef[off + k] = s;
+      for (let i = 0; i < n; i++) s += T[k * n + i] * f[off + i];
+      coef[off + k] = s;
     }
     this.coefStamp[p] = this.stamp;
     return off;
@@ -614,6 +812,58 @@ export class GridPosterior {
    */
   quantile(tau: number, hint = NaN): number {
     if (this.pending) this.settle();
+    return this.quantileOfMass(tau, hint);
+  }
+
+  /**
+   * The τ-quantile for measurement m, without normalising the posterior (what
+   * the absolute and asymmetric-linear losses' estimate curves need): one
+   * pass stores the unnormalised density and the panel sums, and the quantile
+   * is sought at τ times their total; the same nodes as setMeasurement then
+   * quantile, equal to rounding. Leaves no posterior set: call setMeasurement
+   * before anything else.
+   */
+  quantileAt(m: number, tau: number, hint = NaN): number {
+    this.pending = false;
+    const max = this.evaluateWindow(m);
+    const [first, last] = this.massWindow(max, this.winA, this.winB);
+    const thr = max - LOG_CUTOFF;
+    const n = NODES_PER_PANEL;
+    const logVal = this.logVal;
+    const w = this.quadWeight;
+    const f = this.f;
+    const cum = this.cum;
+    const pf = first / n;
+    const pl = (last + 1) / n - 1;
+    let acc = 0;
+    for (let p = pf; p <= pl; p++) {
+      cum[p] = acc;
+      let s = 0;
+      for (let j = p * n, e = j + n; j < e; j++) {
+        const v = logVal[j];
+        const fj = v >= thr ? expNeg(max - v) : 0;
+        f[j] = fj;
+        s += fj * w[j];
+      }
+      acc += s;
+    }
+    cum[pl + 1] = acc;
+    this.first = first;
+    this.last = last;
+    this.stamp++;
+    const q = this.quantileOfMass(tau * acc, hint);
+    this.first = 0;
+    this.last = -1;
+    this.stamp++;
+    return q;
+  }
+
+  /**
+   * Where the cumulative mass reaches `target`, in the scale of cum and f
+   * (normalised: target = τ), by Newton's iteration on the panel's Legendre
+   * series, started from `hint` when it lies in that panel.
+   */
+  private quantileOfMass(tau: number, hint: number): number {
     const n = NODES_PER_PANEL;
     let lo = this.firstPanel;
     let hi = this.lastPanel;
@@ -635,16 +885,20 @@ export class GridPosterior {
       if (th > -1 && th < 1) t = th;
     }
     const c = this.coef;
+    // ∫P_k = (P_{k+1} − P_{k−1})/(2k+1): the division by 2k+1 done once per coefficient, not per iteration.
+    const ci = COEF_INT;
+    for (let k = 1; k < n; k++) ci[k] = c[off + k] * INV_ODD[k];
     for (let it = 0; it < 60; it++) {
       // The panel's cdf and density at t in one pass of the Legendre recurrence
-      // (the same terms as legendreIntegral and legendreValue, so the same values).
+      // (the terms of legendreIntegral and legendreValue, with reciprocals
+      // multiplied where those divide: equal to rounding).
       let pm1 = 1;
       let pk = t;
       let g = c[off] * (t + 1);
       let d = c[off] + c[off + 1] * t;
       for (let k = 1; k < n; k++) {
-        const pNext = ((2 * k + 1) * t * pk - k * pm1) / (k + 1);
-        g += (c[off + k] * (pNext - pm1)) / (2 * k + 1);
+        const pNext = REC_A[k] * t * pk - REC_B[k] * pm1;
+        g += ci[k] * (pNext - pm1);
         if (k + 1 < n) d += c[off + k + 1] * pNext;
         pm1 = pk;
         pk = pNext;
@@ -653,7 +907,10 @@ export class GridPosterior {
       if (g > 0) b = t;
       else a = t;
       let next = d > 0 ? t - g / d : NaN;
-      const newton = next > a && next < b;
+      // A closed bracket: at convergence g/d is below half an ulp of t, and t, just
+      // made a bracket end, is the Newton point itself (an open bracket sent those
+      // to bisection, 20 to 50 steps back down to the same root).
+      const newton = next >= a && next <= b;
       if (!newton) next = 0.5 * (a + b);
       const step = Math.abs(next - t);
       t = next;

@@ -117,6 +117,8 @@ export class MeasurementGrid {
    * counted as a prefix sum: [a, b] is regular iff irregular[b + 1] = irregular[a].
    */
   readonly irregular: Int32Array;
+  /** The weight every regular node has (a linear warp: the step times dx/du), NaN where they differ. */
+  readonly regularWeight: number;
   /** Per-node scratch space for a trial's exponents (shares the grid's store). */
   readonly scratch: Float64Array;
   /** Sub-stepped segments, sorted by left node: nodes, x̂ range, points subFrom[s] … subTo[s] − 1 (subFrom = −1 until built). */
@@ -353,6 +355,14 @@ export class MeasurementGrid {
     const irr = ints.subarray(cap, cap + n + 1);
     for (let k = 0; k < n; k++) irr[k + 1] = fineShare > 0 || lattice[k] !== lattice[k] || emc[k] !== 0 ? 1 : 0;
     for (let t = 0; t < ns; t++) for (let k = this.subLeft[t]; k <= this.subRight[t]; k++) irr[k + 1] = 1;
+    let rw = NaN;
+    let same = true;
+    for (let k = 0; k < n && same; k++) {
+      if (irr[k + 1] !== 0) continue;
+      if (rw !== rw) rw = weight[k];
+      else same = weight[k] === rw;
+    }
+    this.regularWeight = same ? rw : NaN;
     for (let k = 0; k < n; k++) irr[k + 1] += irr[k];
     this.irregular = irr;
     let uniform = n > 1;

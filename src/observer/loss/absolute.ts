@@ -9,6 +9,8 @@ export const absoluteLoss: LossFunction = {
   params: {},
   loss: (e) => Math.abs(e),
   estimate: (post, hint) => post.quantile(0.5, hint),
+  // The quantile straight from the evaluated window, without normalising the posterior.
+  estimateAt: (post, m, hint) => post.quantileAt(m, 0.5, hint),
   mayJump: false,
   symmetric: true,
 };

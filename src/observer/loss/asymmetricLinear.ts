@@ -21,6 +21,8 @@ export function asymmetricLinearLoss(level: number): LossFunction {
     params: { level },
     loss: (e) => (e < 0 ? -level * e : (1 - level) * e),
     estimate: (post, hint) => post.quantile(level, hint),
+    // The quantile straight from the evaluated window, without normalising the posterior.
+    estimateAt: (post, m, hint) => post.quantileAt(m, level, hint),
     mayJump: false,
     symmetric: level === 0.5,
   };

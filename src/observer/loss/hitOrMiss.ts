@@ -150,25 +150,34 @@ function bracketNear(g: (c: number) => number, c: number, lo: number, hi: number
 }
 
 export function hitOrMissLoss(window: number): LossFunction {
+  /**
+   * Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
+   * within ε of the mode (node j, whose neighbours jl and jr bound the bracket),
+   * so bracket there and skip the scan. NaN when the bracket checks fail (the
+   * caller then scans).
+   */
+  const unimodalCentre = (post: GridPosterior, j: number, jl: number, jr: number, hint: number): number => {
+    // The centre stays within the support less ε, and sits at that end when
+    // the posterior is still falling there (the mode is at or near the end).
+    const [cMin, cMax] = centreRange(post, window);
+    const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
+    const lo = Math.max(cMin, post.x[jl] - window);
+    const hi = Math.min(cMax, post.x[jr] + window);
+    const tol = 1e-14 * Math.max(1, Math.abs(post.x[j]));
+    const near = hint > lo && hint < hi ? bracketNear(g, hint, lo, hi) : null;
+    if (near) return brentRoot(g, near.a, near.b, tol, 200, { fa: near.ga, fb: near.gb });
+    const { a, b, ga, gb } = finiteEnds(g, lo, hi);
+    if (a === cMin && ga <= 0) return cMin;
+    if (b === cMax && gb >= 0) return cMax;
+    if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, tol, 200, { fa: ga, fb: gb });
+    return NaN;
+  };
   const estimate = (post: GridPosterior, hint: number): number => {
     if (post.unimodal && post.exactAvailable) {
-      // Unimodal posterior: the optimal centre c solves f(c−ε) = f(c+ε) and lies
-      // within ε of the mode, so bracket there and skip the scan. The mode
-      // of the density in x: with a log warp it differs from that in u.
+      // The mode of the density in x: with a log warp it differs from that in u.
       const j = post.modeNodeX();
-      // The centre stays within the support less ε, and sits at that end when
-      // the posterior is still falling there (the mode is at or near the end).
-      const [cMin, cMax] = centreRange(post, window);
-      const g = (c: number) => post.exactLogDensity(c + window) - post.exactLogDensity(c - window);
-      const lo = Math.max(cMin, post.x[Math.max(post.first, j - 1)] - window);
-      const hi = Math.min(cMax, post.x[Math.min(post.last, j + 1)] + window);
-      const tol = 1e-14 * Math.max(1, Math.abs(post.x[j]));
-      const near = hint > lo && hint < hi ? bracketNear(g, hint, lo, hi) : null;
-      if (near) return brentRoot(g, near.a, near.b, tol, 200, { fa: near.ga, fb: near.gb });
-      const { a, b, ga, gb } = finiteEnds(g, lo, hi);
-      if (a === cMin && ga <= 0) return cMin;
-      if (b === cMax && gb >= 0) return cMax;
-      if (Number.isFinite(ga) && Number.isFinite(gb) && ga > 0 && gb < 0) return brentRoot(g, a, b, tol, 200, { fa: ga, fb: gb });
+      const c = unimodalCentre(post, j, Math.max(post.first, j - 1), Math.min(post.last, j + 1), hint);
+      if (c === c) return c;
     }
     return polish(post, maximiseOverNodes(post, (c) => post.massBetween(c - window, c + window), 3), window);
   };
@@ -179,7 +188,14 @@ export function hitOrMissLoss(window: number): LossFunction {
     estimate,
     // On a unimodal posterior the bracketed root reads only the exact density near the mode:
     // the normalised posterior is left to whichever method needs it (usually none).
+    // From a hint (the curve's prediction, within ε of the mode) the mode node is
+    // found by climbing from it, without evaluating the window at all.
     estimateAt: (post, m, hint) => {
+      if (post.unimodal && hint === hint) {
+        const j = post.climbToModeNode(m, hint);
+        const c = j >= 0 ? unimodalCentre(post, j, j - 1, j + 1, hint) : NaN;
+        if (c === c) return c;
+      }
       if (post.unimodal) post.setMeasurementDeferred(m);
       else post.setMeasurement(m);
       return estimate(post, hint);
