@@ -27,6 +27,16 @@ describe('safeguardedNewton', () => {
     expect(calls).toBe(2);
   });
 
+  it('a start already at the root within rounding (a Newton step below half an ulp) is returned at once', () => {
+    // f(x) = x − 1 computed with a residual of 1e-300 at x = 1: the Newton point rounds to x itself,
+    // which the sign test has just made the bracket's upper end. Taking that for a step outside
+    // the bracket bisected away from the root and back (the fault the quantile's Newton had).
+    let calls = 0;
+    const r = safeguardedNewton((x) => (calls++, [x === 1 ? 1e-300 : x - 1, 1]), 1, 0, 10, 1e-12, 1);
+    expect(r).toBe(1);
+    expect(calls).toBe(1);
+  });
+
   it('returns NaN for a start outside the bracket or a non-finite value', () => {
     expect(safeguardedNewton((x) => [x, 1], 5, -1, 1, 1e-12, 1)).toBeNaN();
     expect(safeguardedNewton(() => [NaN, 1], 0.5, -1, 1, 1e-12, 1)).toBeNaN();

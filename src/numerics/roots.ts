@@ -169,6 +169,9 @@ export function safeguardedNewton(
     if (fx < 0) lo = x;
     else hi = x;
     let next = slope > 0 ? x - fx / slope : NaN;
+    // A Newton step below half an ulp of x leaves x where it is, on the bracket end just set:
+    // converged, not a step outside the bracket (which would bisect away from the root).
+    if (next === x) return x;
     const newton = next > lo && next < hi;
     if (!newton) next = 0.5 * (lo + hi);
     const step = next - x;
