@@ -25,6 +25,8 @@ export const CURVE_STEP = 2;
 const EMPTY_F64: Float64Array<ArrayBufferLike> = new Float64Array(0);
 /** refine's node, value, slope and break arrays (grown as needed, never shrunk). */
 const scratch = { cap: 0, v: EMPTY_F64, x: EMPTY_F64, sl: EMPTY_F64, b: new Uint8Array(0) };
+/** The same for quarterMisses: the round's new nodes, and the three slopes of one segment (allocation per round was 5% of an evaluation). */
+const quarterScratch = { cap: 0, v: EMPTY_F64, x: EMPTY_F64, b: new Uint8Array(0), s: new Float64Array(3) };
 /** Step in v for curves given in closed form (log-linear), which are not refined. */
 const CLOSED_FORM_STEP = 0.25;
 
@@ -231,10 +233,20 @@ export class EstimateCurve {
    */
   private quarterMisses(v: Float64Array, x: Float64Array, sl: Float64Array, nv: number[], nx: number[], nb: number[], nc: number[], passed: number[], tol: number): boolean {
     const n = nv.length;
-    const V = Float64Array.from(nv);
-    const X = Float64Array.from(nx);
-    const B = Uint8Array.from(nb);
-    const S = new Float64Array(3);
+    if (n > quarterScratch.cap) {
+      const cap = Math.max(2 * quarterScratch.cap, 2 * n + 16);
+      const buffer = new ArrayBuffer(8 * 2 * cap + cap);
+      quarterScratch.cap = cap;
+      quarterScratch.v = new Float64Array(buffer, 0, cap);
+      quarterScratch.x = new Float64Array(buffer, 8 * cap, cap);
+      quarterScratch.b = new Uint8Array(buffer, 16 * cap, cap);
+    }
+    const { v: V, x: X, b: B, s: S } = quarterScratch;
+    for (let k = 0; k < n; k++) {
+      V[k] = nv[k];
+      X[k] = nx[k];
+      B[k] = nb[k];
+    }
     let any = false;
     for (let p = 0; p < passed.length; p += 2) {
       const i = passed[p];
