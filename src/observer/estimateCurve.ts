@@ -23,10 +23,31 @@ import { segmentIndex } from '../numerics/search.js';
  */
 export const CURVE_STEP = 2;
 const EMPTY_F64: Float64Array<ArrayBufferLike> = new Float64Array(0);
-/** refine's node, value, slope and break arrays (grown as needed, never shrunk). */
-const scratch = { cap: 0, v: EMPTY_F64, x: EMPTY_F64, sl: EMPTY_F64, b: new Uint8Array(0) };
-/** The same for quarterMisses: the round's new nodes, and the three slopes of one segment (allocation per round was 5% of an evaluation). */
-const quarterScratch = { cap: 0, v: EMPTY_F64, x: EMPTY_F64, b: new Uint8Array(0), s: new Float64Array(3) };
+/** Node, value, slope and break arrays in one buffer, grown as needed and never shrunk. */
+interface NodeScratch {
+  cap: number;
+  v: Float64Array;
+  x: Float64Array;
+  sl: Float64Array;
+  b: Uint8Array;
+}
+const newScratch = (): NodeScratch => ({ cap: 0, v: EMPTY_F64, x: EMPTY_F64, sl: EMPTY_F64, b: new Uint8Array(0) });
+function ensureCapacity(sc: NodeScratch, n: number): NodeScratch {
+  if (n > sc.cap) {
+    const cap = Math.max(2 * sc.cap, 2 * n + 16);
+    const buffer = new ArrayBuffer(8 * 3 * cap + cap);
+    sc.cap = cap;
+    sc.v = new Float64Array(buffer, 0, cap);
+    sc.x = new Float64Array(buffer, 8 * cap, cap);
+    sc.sl = new Float64Array(buffer, 16 * cap, cap);
+    sc.b = new Uint8Array(buffer, 24 * cap, cap);
+  }
+  return sc;
+}
+/** refine's arrays of the current round. */
+const scratch = newScratch();
+/** quarterMisses' copy of the round's new nodes (allocating it per round was 5% of an evaluation). */
+const quarterScratch = newScratch();
 /** Step in v for curves given in closed form (log-linear), which are not refined. */
 const CLOSED_FORM_STEP = 0.25;
 
@@ -138,16 +159,7 @@ export class EstimateCurve {
     // serve); refine never runs inside another refine.
     for (let round = 0; round < MAX_REFINE_ROUNDS; round++) {
       const len = vs.length;
-      if (len > scratch.cap) {
-        const cap = Math.max(2 * scratch.cap, 2 * len + 16);
-        const buffer = new ArrayBuffer(8 * 3 * cap + cap);
-        scratch.cap = cap;
-        scratch.v = new Float64Array(buffer, 0, cap);
-        scratch.x = new Float64Array(buffer, 8 * cap, cap);
-        scratch.sl = new Float64Array(buffer, 16 * cap, cap);
-        scratch.b = new Uint8Array(buffer, 24 * cap, cap);
-      }
-      const { v, x, sl, b } = scratch;
+      const { v, x, sl, b } = ensureCapacity(scratch, len);
       for (let i = 0; i < len; i++) {
         v[i] = vs[i];
         x[i] = xs[i];
@@ -233,15 +245,8 @@ export class EstimateCurve {
    */
   private quarterMisses(v: Float64Array, x: Float64Array, sl: Float64Array, nv: number[], nx: number[], nb: number[], nc: number[], passed: number[], tol: number): boolean {
     const n = nv.length;
-    if (n > quarterScratch.cap) {
-      const cap = Math.max(2 * quarterScratch.cap, 2 * n + 16);
-      const buffer = new ArrayBuffer(8 * 2 * cap + cap);
-      quarterScratch.cap = cap;
-      quarterScratch.v = new Float64Array(buffer, 0, cap);
-      quarterScratch.x = new Float64Array(buffer, 8 * cap, cap);
-      quarterScratch.b = new Uint8Array(buffer, 16 * cap, cap);
-    }
-    const { v: V, x: X, b: B, s: S } = quarterScratch;
+    const { v: V, x: X, b: B } = ensureCapacity(quarterScratch, n);
+    const S = QUARTER_SLOPES;
     for (let k = 0; k < n; k++) {
       V[k] = nv[k];
       X[k] = nx[k];
@@ -331,6 +336,8 @@ function closeGaps(vs: number[], xs: number[], brk: number[]): [number[], number
 }
 
 const QUARTERS = [0.25, 0.75];
+/** The three node slopes of the segment quarterMisses is checking. */
+const QUARTER_SLOPES = new Float64Array(3);
 
 /** The cubic Hermite piece on [0, 1] with end values y0, y1 and end derivatives d0, d1 (per unit t). */
 function hermiteUnit(y0: number, y1: number, d0: number, d1: number, t: number): number {
