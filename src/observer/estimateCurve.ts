@@ -264,7 +264,7 @@ export class EstimateCurve {
         const half = t < 0.5 ? 0 : 1;
         const hn = V[j + half + 1] - V[j + half];
         const tn = (u - V[j + half]) / hn;
-        const fresh = hermiteUnit(X[j + half], X[j + half + 1], hn * S[half], hn * S[half + 1], tn);
+        const fresh = hermitePiece(X[j + half], X[j + half + 1], S[half], S[half + 1], hn, tn);
         if (Math.abs(fresh - hermite(v, x, sl, i, u)) > tol) miss = true;
       }
       if (miss) {
@@ -339,11 +339,11 @@ const QUARTERS = [0.25, 0.75];
 /** The three node slopes of the segment quarterMisses is checking. */
 const QUARTER_SLOPES = new Float64Array(3);
 
-/** The cubic Hermite piece on [0, 1] with end values y0, y1 and end derivatives d0, d1 (per unit t). */
-function hermiteUnit(y0: number, y1: number, d0: number, d1: number, t: number): number {
+/** The cubic Hermite piece of width h with end values y0, y1 and end slopes s0, s1, at t = (v − v0)/h. */
+function hermitePiece(y0: number, y1: number, s0: number, s1: number, h: number, t: number): number {
   const t2 = t * t;
   const t3 = t2 * t;
-  return (2 * t3 - 3 * t2 + 1) * y0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * y1 + (t3 - t2) * d1;
+  return (2 * t3 - 3 * t2 + 1) * y0 + (t3 - 2 * t2 + t) * h * s0 + (-2 * t3 + 3 * t2) * y1 + (t3 - t2) * h * s1;
 }
 
 /** Interpolation tolerance for x̂, as a fraction of the motor-noise sd. */
@@ -356,10 +356,7 @@ export function hermite(vArr: Float64Array, xh: Float64Array, slope: Float64Arra
   const v0 = vArr[i];
   const h = vArr[i + 1] - v0;
   if (h <= 0) return xh[i];
-  const t = (v - v0) / h;
-  const t2 = t * t;
-  const t3 = t2 * t;
-  return (2 * t3 - 3 * t2 + 1) * xh[i] + (t3 - 2 * t2 + t) * h * slope[i] + (-2 * t3 + 3 * t2) * xh[i + 1] + (t3 - t2) * h * slope[i + 1];
+  return hermitePiece(xh[i], xh[i + 1], slope[i], slope[i + 1], h, (v - v0) / h);
 }
 
 /**
